@@ -1,0 +1,156 @@
+#include "heuristics/signal/peaks.h"
+
+#include <algorithm>
+#include <cmath>
+#include <sstream>
+
+#include "heuristics/signal/internal/curve_checks.h"
+#include "heuristics/signal/noise.h"
+
+namespace foothold {
+namespace signal {
+namespace {
+
+// x where the polyline through (x, s) first drops below `level`, walking from `apex`
+// towards `stop` (step -1 or +1). False when it never does before passing `stop`.
+bool FindLevelCrossing(const Eigen::VectorXd& x, const Eigen::VectorXd& s, Eigen::Index apex,
+                       Eigen::Index stop, int step, double level, double* crossing) {
+  for (Eigen::Index j = apex + step; step < 0 ? j >= stop : j <= stop; j += step) {
+    if (s[j] < level) {
+      const Eigen::Index inner = j - step;
+      const double fraction = (s[inner] - level) / (s[inner] - s[j]);
+      *crossing = x[inner] + fraction * (x[j] - x[inner]);
+      return true;
+    }
+  }
+  return false;
+}
+
+// Walks from the apex while the signal stays at or below `apex_value`; returns the index of
+// the lowest sample passed (the base on that side), or the apex itself if none.
+Eigen::Index FindBase(const Eigen::VectorXd& s, Eigen::Index apex, int step, double apex_value) {
+  Eigen::Index base = apex;
+  const Eigen::Index n = s.size();
+  for (Eigen::Index j = apex + step; j >= 0 && j < n && s[j] <= apex_value; j += step) {
+    if (s[j] < s[base]) base = j;
+  }
+  return base;
+}
+
+// Builds the peak whose derivative crosses zero between samples i and i + 1, or returns
+// false if the curvature there is not negative.
+bool MeasurePeak(const Eigen::VectorXd& x, const SmoothedCurve& smooth, const Baseline& baseline,
+                 Eigen::Index i, Peak* peak) {
+  const Eigen::VectorXd& s = smooth.value;
+  const Eigen::VectorXd& d1 = smooth.first_derivative;
+  const Eigen::VectorXd& d2 = smooth.second_derivative;
+  const double fraction = d1[i] / (d1[i] - d1[i + 1]);
+  const double center = x[i] + fraction * (x[i + 1] - x[i]);
+  if (!(d2[i] + fraction * (d2[i + 1] - d2[i]) < 0.0)) return false;
+  const Eigen::Index apex = fraction < 0.5 ? i : i + 1;
+  // Second-order Taylor expansion of the local fit from the nearest sample to the center.
+  const double delta = center - x[apex];
+  const double apex_value = s[apex] + d1[apex] * delta + 0.5 * d2[apex] * delta * delta;
+
+  const Eigen::Index left = FindBase(s, apex, -1, apex_value);
+  const Eigen::Index right = FindBase(s, apex, +1, apex_value);
+  peak->center = center;
+  peak->apex_index = static_cast<int>(apex);
+  peak->left_index = static_cast<int>(left);
+  peak->right_index = static_cast<int>(right);
+  peak->prominence = apex_value - std::max(s[left], s[right]);
+  peak->height = apex_value - baseline.At(center);
+
+  double low = 0.0, high = 0.0;
+  const double half_height = apex_value - 0.5 * peak->height;
+  if (peak->height > 0.0 && FindLevelCrossing(x, s, apex, left, -1, half_height, &low) &&
+      FindLevelCrossing(x, s, apex, right, +1, half_height, &high)) {
+    peak->fwhm = high - low;
+    return true;
+  }
+  // Half-way down the prominence is crossed on both sides by construction of the bases.
+  const double half_prominence = apex_value - 0.5 * peak->prominence;
+  peak->is_width_from_prominence = true;
+  if (FindLevelCrossing(x, s, apex, left, -1, half_prominence, &low) &&
+      FindLevelCrossing(x, s, apex, right, +1, half_prominence, &high)) {
+    peak->fwhm = high - low;
+  } else {
+    peak->fwhm = 0.0;
+  }
+  return true;
+}
+
+}  // namespace
+
+bool PeakOptions::Validate(std::string* error) const {
+  std::ostringstream text;
+  std::string nested;
+  if (!(min_prominence_sigmas >= 0.0) || !std::isfinite(min_prominence_sigmas)) {
+    text << "min_prominence_sigmas = " << min_prominence_sigmas << ": must be finite and >= 0";
+  } else if (!(min_prominence_fraction >= 0.0 && min_prominence_fraction < 1.0)) {
+    text << "min_prominence_fraction = " << min_prominence_fraction << ": must be in [0, 1)";
+  } else if (max_peaks < 0) {
+    text << "max_peaks = " << max_peaks << ": must be >= 0 (0 keeps all)";
+  } else if (!smoothing.Validate(&nested)) {
+    text << "smoothing." << nested;
+  } else if (!baseline.Validate(&nested)) {
+    text << "baseline." << nested;
+  }
+  if (text.tellp() == 0) return true;
+  if (error) *error = text.str();
+  return false;
+}
+
+PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const PeakOptions& options) {
+  PeakList out;
+  if (!options.Validate(&out.message)) {
+    out.status = SignalStatus::kInvalidOptions;
+    return out;
+  }
+  out.status = internal::CheckCurve(x, y, internal::CurveRequirements(), &out.message);
+  if (!out.IsOk()) return out;
+
+  // Dips are peaks of the negated signal; everything is measured there and mapped back.
+  const double sign = options.negative ? -1.0 : 1.0;
+  const Eigen::VectorXd signal = sign * y;
+  out.noise_sigma = EstimateNoise(x, signal).sigma;
+  SavitzkyGolayOptions smoothing = options.smoothing;
+  if (smoothing.noise_sigma < 0.0) smoothing.noise_sigma = out.noise_sigma;
+  SmoothedCurve smooth = SmoothSavitzkyGolay(x, signal, smoothing);
+  if (!smooth.IsOk()) {
+    out.status = smooth.status;
+    out.message = "smoothing before peak detection: " + smooth.message;
+    return out;
+  }
+  Baseline baseline = EstimateBaseline(x, smooth.value, options.baseline);
+  out.prominence_threshold =
+      std::max(options.min_prominence_sigmas * out.noise_sigma,
+               options.min_prominence_fraction * (signal.maxCoeff() - signal.minCoeff()));
+
+  const Eigen::VectorXd& d1 = smooth.first_derivative;
+  for (Eigen::Index i = 0; i + 1 < x.size(); ++i) {
+    if (!(d1[i] > 0.0 && d1[i + 1] <= 0.0)) continue;
+    Peak peak;
+    if (!MeasurePeak(x, smooth, baseline, i, &peak)) continue;
+    if (peak.prominence < out.prominence_threshold) continue;
+    peak.height *= sign;
+    out.peaks.push_back(peak);
+  }
+  std::stable_sort(out.peaks.begin(), out.peaks.end(),
+                   [](const Peak& a, const Peak& b) { return a.prominence > b.prominence; });
+  if (options.max_peaks > 0 && out.peaks.size() > static_cast<size_t>(options.max_peaks)) {
+    out.peaks.resize(static_cast<size_t>(options.max_peaks));
+  }
+
+  baseline.intercept *= sign;
+  baseline.slope *= sign;
+  out.baseline = baseline;
+  smooth.value *= sign;
+  smooth.first_derivative *= sign;
+  smooth.second_derivative *= sign;
+  out.smoothed = std::move(smooth);
+  return out;
+}
+
+}  // namespace signal
+}  // namespace foothold

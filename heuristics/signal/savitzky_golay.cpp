@@ -1,0 +1,194 @@
+#include "heuristics/signal/savitzky_golay.h"
+
+#include <Eigen/Cholesky>
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <sstream>
+
+#include "heuristics/signal/internal/curve_checks.h"
+#include "heuristics/signal/noise.h"
+
+namespace foothold {
+namespace signal {
+namespace {
+
+constexpr int kMinOrder = 2;
+constexpr int kMaxOrder = 4;
+// Growth factor of the automatic half-window search.
+constexpr double kWindowGrowth = 1.25;
+
+// Gram matrix inverse columns for the local fit: rows d = 0..2 of (V^T V)^-1 V^T give the
+// weights of the value and the first two Taylor coefficients.
+struct LocalWeights {
+  Eigen::MatrixXd rows;  // 3 x w (rows beyond the order are zero)
+  double scale = 1.0;    // s in t = (x - x_eval) / s
+};
+
+// Fills `out` for the window x[lo..hi] evaluated at x_eval. Rows for derivatives above
+// `order` are zero. Returns false if the Gram matrix is singular (duplicate x).
+bool ComputeLocalWeights(const double* window_x, Eigen::Index w, double x_eval, int order,
+                         LocalWeights* out) {
+  double scale = 0.0;
+  for (Eigen::Index j = 0; j < w; ++j) scale = std::max(scale, std::abs(window_x[j] - x_eval));
+  if (!(scale > 0.0)) return false;
+  const int p = order + 1;
+  Eigen::MatrixXd vandermonde(w, p);
+  for (Eigen::Index j = 0; j < w; ++j) {
+    const double t = (window_x[j] - x_eval) / scale;
+    double power = 1.0;
+    for (int k = 0; k < p; ++k, power *= t) vandermonde(j, k) = power;
+  }
+  const Eigen::MatrixXd gram = vandermonde.transpose() * vandermonde;
+  Eigen::LDLT<Eigen::MatrixXd> ldlt(gram);
+  if (ldlt.info() != Eigen::Success ||
+      ldlt.rcond() < 1e3 * std::numeric_limits<double>::epsilon()) {
+    return false;
+  }
+  const int num_rows = std::min(3, p);
+  const Eigen::MatrixXd inverse_rows =
+      ldlt.solve(Eigen::MatrixXd::Identity(p, p)).leftCols(num_rows);  // symmetric
+  out->rows = Eigen::MatrixXd::Zero(3, w);
+  out->rows.topRows(num_rows) = (vandermonde * inverse_rows).transpose();
+  out->scale = scale;
+  return true;
+}
+
+// Window [lo, lo + 2h] holding i, slid inward at the ends.
+Eigen::Index WindowStart(Eigen::Index i, Eigen::Index h, Eigen::Index n) {
+  return std::clamp<Eigen::Index>(i - h, 0, n - 1 - 2 * h);
+}
+
+// One pass of the smoother. With derivatives == false only value and leverage are filled.
+bool SmoothPass(const Eigen::VectorXd& x, const Eigen::VectorXd& y, int order, Eigen::Index h,
+                bool derivatives, SmoothedCurve* out, Eigen::VectorXd* leverage) {
+  const Eigen::Index n = x.size();
+  const Eigen::Index w = 2 * h + 1;
+  out->value.resize(n);
+  if (derivatives) {
+    out->first_derivative.resize(n);
+    out->second_derivative.resize(n);
+  }
+  if (leverage) leverage->resize(n);
+  LocalWeights weights;
+  for (Eigen::Index i = 0; i < n; ++i) {
+    const Eigen::Index lo = WindowStart(i, h, n);
+    if (!ComputeLocalWeights(x.data() + lo, w, x[i], order, &weights)) return false;
+    const auto window_y = y.segment(lo, w);
+    out->value[i] = weights.rows.row(0).dot(window_y);
+    if (leverage) (*leverage)[i] = weights.rows(0, i - lo);
+    if (derivatives) {
+      // The Taylor coefficients c1, c2 of p(t) give dy/dx = c1 / s and d2y/dx2 = 2 c2 / s^2.
+      out->first_derivative[i] = weights.rows.row(1).dot(window_y) / weights.scale;
+      out->second_derivative[i] =
+          2.0 * weights.rows.row(2).dot(window_y) / (weights.scale * weights.scale);
+    }
+  }
+  return true;
+}
+
+}  // namespace
+
+bool SavitzkyGolayOptions::Validate(std::string* error) const {
+  std::ostringstream text;
+  if (polynomial_order < kMinOrder || polynomial_order > kMaxOrder) {
+    text << "polynomial_order = " << polynomial_order << ": must be between " << kMinOrder
+         << " and " << kMaxOrder;
+  } else if (half_window != 0 && half_window < MinHalfWindow()) {
+    text << "half_window = " << half_window << ": must be 0 (automatic) or >= " << MinHalfWindow()
+         << " for polynomial_order " << polynomial_order;
+  } else if (max_auto_half_window < 2) {
+    text << "max_auto_half_window = " << max_auto_half_window << ": must be >= 2";
+  } else if (!std::isfinite(noise_sigma)) {
+    text << "noise_sigma = " << noise_sigma << ": must be finite (< 0 to estimate it)";
+  }
+  if (text.tellp() == 0) return true;
+  if (error) *error = text.str();
+  return false;
+}
+
+SmoothedCurve SmoothSavitzkyGolay(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
+                                  const SavitzkyGolayOptions& options) {
+  SmoothedCurve out;
+  out.polynomial_order = options.polynomial_order;
+  if (!options.Validate(&out.message)) {
+    out.status = SignalStatus::kInvalidOptions;
+    return out;
+  }
+  internal::CurveRequirements requirements;
+  requirements.needs_y_variation = false;
+  out.status = internal::CheckCurve(x, y, requirements, &out.message);
+  if (!out.IsOk()) return out;
+
+  const Eigen::Index n = x.size();
+  const int h_min = options.MinHalfWindow();
+  const int h_needed = options.half_window > 0 ? options.half_window : h_min;
+  if (2 * h_needed + 1 > n) {
+    out.status = SignalStatus::kTooFewPoints;
+    std::ostringstream text;
+    text << n << " points: half_window " << h_needed << " needs at least " << 2 * h_needed + 1;
+    out.message = text.str();
+    return out;
+  }
+
+  Eigen::Index chosen = h_needed;
+  if (options.half_window == 0) {
+    out.is_auto_window = true;
+    out.noise_sigma = options.noise_sigma;
+    if (out.noise_sigma < 0.0) {
+      const NoiseEstimate noise = EstimateNoise(x, y);
+      out.noise_sigma = noise.IsOk() ? noise.sigma : 0.0;  // constant y: no noise
+    }
+    const double variance = out.noise_sigma * out.noise_sigma;
+    const Eigen::Index h_max = std::min<Eigen::Index>(options.max_auto_half_window, (n - 1) / 2);
+    double best_risk = std::numeric_limits<double>::infinity();
+    SmoothedCurve trial;
+    Eigen::VectorXd leverage;
+    for (Eigen::Index h = h_min; h <= h_max;
+         h = std::max<Eigen::Index>(h + 1, std::lround(kWindowGrowth * h))) {
+      if (!SmoothPass(x, y, options.polynomial_order, h, false, &trial, &leverage)) break;
+      // Mallows' Cp / SURE for a linear smoother.
+      const double risk =
+          (y - trial.value).squaredNorm() / n - variance + 2.0 * variance * leverage.mean();
+      if (risk < best_risk) {
+        best_risk = risk;
+        chosen = h;
+      }
+    }
+    out.estimated_risk = best_risk;
+  }
+  out.half_window = static_cast<int>(chosen);
+  if (!SmoothPass(x, y, options.polynomial_order, chosen, true, &out, nullptr)) {
+    out.status = SignalStatus::kRankDeficient;
+    out.message = "a smoothing window has too few distinct x values for the polynomial order";
+  }
+  return out;
+}
+
+bool SavitzkyGolayWeights(const Eigen::VectorXd& window_x, double x_eval, int order, int derivative,
+                          Eigen::VectorXd* weights, std::string* error) {
+  std::ostringstream text;
+  if (order < 0 || derivative < 0 || derivative > order || derivative > 2) {
+    text << "derivative = " << derivative << ", order = " << order
+         << ": need 0 <= derivative <= min(order, 2)";
+  } else if (window_x.size() < order + 1 || !window_x.allFinite()) {
+    text << "window of " << window_x.size() << " finite x values: need at least " << order + 1;
+  }
+  LocalWeights local;
+  if (text.tellp() == 0 &&
+      !ComputeLocalWeights(window_x.data(), window_x.size(), x_eval, order, &local)) {
+    text << "window x values are not distinct enough for a degree " << order << " polynomial";
+  }
+  if (text.tellp() != 0) {
+    if (error) *error = text.str();
+    return false;
+  }
+  // d-th derivative of sum c_k t^k at t = 0 is d! c_d, and dt/dx = 1 / s.
+  const double factorial = derivative == 2 ? 2.0 : 1.0;
+  *weights = local.rows.row(derivative).transpose() * factorial /
+             std::pow(local.scale, static_cast<double>(derivative));
+  return true;
+}
+
+}  // namespace signal
+}  // namespace foothold
