@@ -7,6 +7,7 @@
 #include <cstdlib>
 #include <limits>
 #include <sstream>
+#include <string>
 
 #include "engine/stats/internal/covariance.h"
 #include "engine/stats/internal/residual_tests.h"
@@ -172,7 +173,8 @@ void ComputeUncertainty(const Problem& problem, const Eigen::VectorXd& params,
   stats->covariance_scale = is_absolute ? 1.0 : (stats->dof > 0 ? stats->rss / stats->dof : kNaN);
   stats->has_standard_errors = std::isfinite(stats->covariance_scale);
   if (!stats->has_standard_errors) {
-    AppendNote("dof = 0 and no absolute sigma: the residual variance cannot be estimated",
+    AppendNote("dof = " + std::to_string(stats->dof) +
+                   " and no absolute sigma: the residual variance cannot be estimated",
                &stats->message);
   }
   stats->t_quantile = IntervalQuantile(is_absolute, stats->dof, options.confidence_level);
