@@ -36,6 +36,12 @@ struct FamilyDescription {
   std::vector<FamilyParameter> parameters;
   // Request options the family takes: "degree", "peaks", or none.
   std::vector<std::string> options;
+  // Names of the parameters the model is linear in, for the default options (taken from
+  // the model itself, so the listing cannot disagree with it).
+  std::vector<std::string> linear_parameters;
+  // The model's symmetries in words, e.g. "peaks may be permuted; canonical order by
+  // center"; empty when there are none.
+  std::string symmetries;
 };
 
 struct FamilyInstance {
@@ -47,7 +53,10 @@ struct FamilyInstance {
 const std::vector<FamilyDescription>& FamilyCatalogue();
 const FamilyDescription* FindFamily(const std::string& name);
 // Builds the model for a request. False with a message naming the field on bad input
-// ("unknown family 'gausian'", "degree = 40: must be between 0 and 20").
+// ("unknown family 'gausian' (did you mean 'gaussian'?)", "degree = 40: must be between 0
+// and 20"). A request with auto_peaks is refused: the count must first be resolved from
+// the data. degree (peaks) different from its default on a family without that option is
+// refused as well.
 bool InstantiateFamily(const FamilyRequest& request, FamilyInstance* out, std::string* error);
 
 }  // namespace foothold
