@@ -162,8 +162,13 @@ bool EvaluateColumnExpression(const std::string& text,
     for (size_t j = 0; j < used.size(); ++j) {
       message << (j ? ", " : " (") << used[j] << " = " << columns(i, source[j]);
     }
-    message << (used.empty() ? "" : ")") << ": '" << text << "' evaluates to " << (*out)[i]
-            << "; expected a finite value";
+    message << (used.empty() ? "" : ")") << ": '" << text << "' evaluates to ";
+    if (std::isnan((*out)[i])) {
+      message << "nan";  // whatever its sign bit, for stable messages
+    } else {
+      message << (*out)[i];
+    }
+    message << "; expected a finite value";
     return Fail(message.str(), error);
   }
   return true;

@@ -32,6 +32,7 @@ OpCode FunctionOpCode(Function function) {
 }
 
 std::string FormatNumber(double value) {
+  if (std::isnan(value)) return "nan";  // whatever its sign bit, for stable messages
   std::ostringstream out;
   out.precision(17);
   out << value;
