@@ -46,8 +46,8 @@ constexpr double kLanczos1RssCeiling = 1e-20;
 constexpr double kRssAtCertifiedDigits = 9.0;
 
 // A problem that cannot reach the thresholds above from one start: the check asserts the
-// figures it does reach (measured, see docs/certification.md) and says why. Empty until a
-// measured shortfall is understood.
+// figures it does reach (measured, see docs/certification.md) and says why. Only the
+// lowered figure differs from the thresholds above; Lanczos1 keeps its RSS ceiling.
 struct ReachedFigures {
   const char* problem;
   int start;
@@ -57,7 +57,19 @@ struct ReachedFigures {
   const char* why;
 };
 const std::vector<ReachedFigures>& KnownShortfalls() {
-  static const std::vector<ReachedFigures> shortfalls = {};
+  // Lanczos1: the certified standard deviations are sqrt(diag((J^T J)^-1) * rss / dof), so
+  // their relative error is half that of the RSS. The RSS (1.43e-25) is a sum of residuals of
+  // about 1e-13 on responses up to 2.5, where rounding of each value is about 5e-16: the RSS
+  // holds about 3 digits (measured RSS LRE 2.7 to 2.8) and the standard deviations 3.0 to
+  // 3.1. The parameters still reach 10.6 and the RSS check (< 1e-20) holds. scipy's MINPACK
+  // (tests/reference/nist_scipy.py) reaches the same 3.0 to 3.4: a float64 limit, not a
+  // solver fault.
+  static const std::vector<ReachedFigures> shortfalls = {
+      {"Lanczos1", 1, kCertifiedDigits, kCertifiedDigits, 3.0,
+       "standard deviations limited to ~3 digits by the float64 resolution of RSS ~1e-25"},
+      {"Lanczos1", 2, kCertifiedDigits, kCertifiedDigits, 3.0,
+       "standard deviations limited to ~3 digits by the float64 resolution of RSS ~1e-25"},
+  };
   return shortfalls;
 }
 
@@ -275,16 +287,19 @@ TEST_CASE("NIST StRD: Levenberg-Marquardt from Start 1 and Start 2 reaches the c
                               << RoundTrip(p.certified_rss));
     INFO("setup error: " << r.setup_error);
     REQUIRE(r.is_set_up);
+    std::string worst_param_text;
     if (r.worst_param >= 0 && r.worst_param < r.parameters.size()) {
-      INFO("worst parameter b" << r.worst_param + 1 << " = "
-                               << RoundTrip(r.parameters[r.worst_param]) << " vs certified "
-                               << RoundTrip(p.certified[r.worst_param]));
+      worst_param_text = "b" + std::to_string(r.worst_param + 1) + " = " +
+                         RoundTrip(r.parameters[r.worst_param]) + " vs certified " +
+                         RoundTrip(p.certified[r.worst_param]);
     }
+    std::string worst_sd_text;
     if (r.worst_sd >= 0 && r.worst_sd < r.standard_errors.size()) {
-      INFO("worst standard deviation of b"
-           << r.worst_sd + 1 << " = " << RoundTrip(r.standard_errors[r.worst_sd])
-           << " vs certified " << RoundTrip(p.certified_sd[r.worst_sd]));
+      worst_sd_text = "sd(b" + std::to_string(r.worst_sd + 1) +
+                      ") = " + RoundTrip(r.standard_errors[r.worst_sd]) + " vs certified " +
+                      RoundTrip(p.certified_sd[r.worst_sd]);
     }
+    INFO("worst parameter " << worst_param_text << "; worst standard deviation " << worst_sd_text);
     const ReachedFigures* shortfall = FindShortfall(r.problem, r.start);
     const double param_digits = shortfall ? shortfall->min_param_lre : kCertifiedDigits;
     const double rss_digits = shortfall ? shortfall->rss_lre : kCertifiedDigits;
@@ -292,7 +307,7 @@ TEST_CASE("NIST StRD: Levenberg-Marquardt from Start 1 and Start 2 reaches the c
     if (shortfall)
       WARN("NIST StRD " << r.problem << " Start " << r.start << ": " << shortfall->why);
     CHECK(r.min_param_lre >= param_digits);
-    if (r.problem == "Lanczos1" && !shortfall) {
+    if (r.problem == "Lanczos1") {
       CHECK(r.rss < kLanczos1RssCeiling);
     } else {
       CHECK(r.rss_lre >= rss_digits);
