@@ -1,0 +1,98 @@
+#include "server/cli.h"
+
+#include "server/fit_flags.h"
+#include "server/fit_service.h"
+#include "server/json_codec.h"
+#include "server/text_report.h"
+
+namespace foothold {
+namespace {
+
+constexpr const char* kUsage = R"TEXT(usage: foothold COMMAND [ARGS]
+
+Fits curves to measured data: a catalogue family or your own expression.
+
+commands:
+  fit DATA ...      fit one dataset locally and print the result (foothold fit --help)
+  families          list the model catalogue: name, parameters, formula (--json for JSON)
+  help              this text
+
+options:
+  --help, -h        this text
+  --version         the version
+
+Exit status: 0 success, 2 bad input (one line on stderr), 3 a fit did not converge.
+)TEXT";
+
+constexpr const char* kFamiliesUsage = R"TEXT(usage: foothold families [--json]
+
+Lists the model catalogue: each family's name (with the options it takes), its parameters
+in order, and its formula. --json prints the catalogue with parameter meanings and default
+bounds.
+)TEXT";
+
+int BadInput(const std::string& message, std::ostream& err) {
+  err << "foothold: " << message << '\n';
+  return kExitBadInput;
+}
+
+int RunFamilies(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  bool json = false;
+  for (const std::string& arg : args) {
+    if (arg == "--json") {
+      json = true;
+    } else if (arg == "--help" || arg == "-h") {
+      out << kFamiliesUsage;
+      return kExitOk;
+    } else {
+      return BadInput("families: unexpected argument '" + arg + "' (see foothold families --help)",
+                      err);
+    }
+  }
+  if (json) {
+    out << EncodeFamilies().dump(2) << '\n';
+  } else {
+    WriteFamiliesTable(out);
+  }
+  return kExitOk;
+}
+
+int RunFitCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  FitCommand command;
+  std::string error;
+  if (!ParseFitArguments(args, &command, &error)) return BadInput(error, err);
+  if (command.help) {
+    out << FitUsage();
+    return kExitOk;
+  }
+  FitOutcome outcome;
+  if (!RunFit(command.request, &outcome, &error)) return BadInput(error, err);
+  if (command.json) {
+    out << EncodeFitOutcome(outcome).dump(2) << '\n';
+  } else {
+    WriteFitReport(outcome, command.data_source, out);
+  }
+  return outcome.IsConverged() ? kExitOk : kExitNotConverged;
+}
+
+}  // namespace
+
+int RunCli(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  if (args.empty()) return BadInput("no command given (see foothold --help)", err);
+  const std::string& command = args[0];
+  const std::vector<std::string> rest(args.begin() + 1, args.end());
+  if (command == "--help" || command == "-h" || command == "help") {
+    out << kUsage;
+    return kExitOk;
+  }
+  if (command == "--version") {
+    out << "foothold 0.1.0\n";
+    return kExitOk;
+  }
+  if (command == "fit") return RunFitCommand(rest, out, err);
+  if (command == "families") return RunFamilies(rest, out, err);
+  return BadInput("unknown command '" + command + "' (commands: fit, families; see foothold --help)",
+                  err);
+}
+
+}  // namespace foothold

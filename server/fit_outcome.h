@@ -1,0 +1,63 @@
+#pragma once
+// What a fit produced, as plain values: the best end point with its statistics, the
+// basins, the start log and the verdict. json_codec.h turns it into the result document.
+
+#include <Eigen/Core>
+#include <cstdint>
+#include <string>
+#include <vector>
+
+#include "engine/solve/levenberg_marquardt.h"
+#include "engine/solve/problem.h"
+#include "engine/stats/fit_statistics.h"
+#include "server/fit_request.h"
+
+namespace foothold {
+
+// One local fit in the start log.
+struct StartRecord {
+  int index = 0;
+  std::string origin;  // "user", later "guess:<name>", "sobol", "jitter"
+  LocalFitSummary summary;
+  int basin = -1;      // basin id, or -1 when the start did not converge
+};
+
+// A distinct optimum.
+struct Basin {
+  int id = 0;
+  double rss = 0;
+  double delta_rss = 0;  // rss minus the best basin's rss
+  int num_starts = 0;
+  Eigen::VectorXd parameters;
+  Eigen::VectorXd standard_errors;
+};
+
+struct Verdict {
+  // Machine-readable findings, most severe first: "not_converged", "at_bound", ...
+  std::vector<std::string> flags;
+  // One sentence a person can act on.
+  std::string summary;
+};
+
+struct FitOutcome {
+  std::string label;
+  ModelSpec model;                       // as requested (family options or expression)
+  std::vector<std::string> parameter_names;
+  std::vector<bool> is_fixed;
+  std::vector<std::string> predictor_names;
+  std::string response;                  // column or expression fitted
+  std::string sigma_column;              // empty when unweighted
+  SigmaMode sigma_mode = SigmaMode::kAbsolute;
+  LocalFitSummary best;                  // the local fit that reached the best optimum
+  FitStatistics statistics;              // at best.parameters
+  std::vector<Basin> basins;             // best first; empty when nothing converged
+  std::vector<StartRecord> starts;
+  Verdict verdict;
+  std::uint64_t seed = 0;
+  double elapsed_ms = 0;
+
+  bool IsConverged() const { return best.IsConverged(); }
+  bool IsWeighted() const { return !sigma_column.empty(); }
+};
+
+}  // namespace foothold

@@ -1,0 +1,79 @@
+#pragma once
+// A fit request as plain C++ values: the request document of DESIGN.md §3b after decoding,
+// and what the CLI flags build. No JSON here; json_codec.h converts.
+
+#include <cstdint>
+#include <limits>
+#include <optional>
+#include <string>
+#include <vector>
+
+#include "server/data_table.h"
+
+namespace foothold {
+
+// The model a request names: a catalogue family or an expression.
+struct ModelSpec {
+  std::string family;                 // catalogue name, or empty for an expression
+  std::optional<int> degree;          // polynomial only
+  std::optional<int> peaks;           // multi_* only
+  bool auto_peaks = false;            // multi_* only: "peaks": "auto"
+  std::string expression;             // maths text, or empty for a family
+  std::vector<std::string> parameters;  // expression parameter order; empty = first use
+
+  bool IsFamily() const { return !family.empty(); }
+};
+
+struct NamedValue {
+  std::string name;
+  double value = 0;
+};
+
+struct NamedBounds {
+  std::string name;
+  double lower = -std::numeric_limits<double>::infinity();
+  double upper = std::numeric_limits<double>::infinity();
+};
+
+// Values later work will accept; validation names them so a request is never misread.
+constexpr const char* kKnownLosses[] = {"squared", "soft_l1", "huber", "cauchy", "tukey", "l1"};
+constexpr const char* kKnownMethods[] = {"lm", "gauss_newton", "bfgs"};
+
+struct FitRequest {
+  // Free text for listing and filtering. Optional.
+  std::string label;
+  ModelSpec model;
+  DataTable data;
+  // Column fitted, or an expression in the columns such as "log(y)". Default "y".
+  std::string response = "y";
+  // Column of per-point sigma. Empty means "sigma" when the data have it, else unweighted.
+  std::string sigma_column;
+  std::vector<NamedValue> start;
+  std::vector<NamedValue> fix;
+  std::vector<NamedBounds> bounds;
+  // "absolute" or "relative"; empty means absolute when sigma is given.
+  std::string sigma_mode;
+  // Robust loss and its scale; only "squared" is implemented so far.
+  std::string loss = "squared";
+  double loss_scale = 1.0;
+  // Local method; only "lm" is implemented so far.
+  std::string method = "lm";
+  // Number of starts; only 1 (the user's own start) is implemented so far.
+  int starts = 1;
+  // Seed of the random streams; recorded in the result.
+  std::uint64_t seed = 0;
+  // Worker threads. Must be >= 1.
+  int threads = 1;
+  // Wall-clock limit of the whole fit in seconds; infinity means none.
+  double deadline_seconds = std::numeric_limits<double>::infinity();
+  // Local solver limits (foothold extensions of §3b). Defaults as the solver's.
+  int max_iterations = 1000;
+  int max_evaluations = 4000;
+
+  // Checks everything that does not need the model built: one model kind, supported
+  // loss/method/starts, limits, finite start/fix values, lower <= upper, no name given
+  // twice. The message names the field and the rule.
+  bool Validate(std::string* error) const;
+};
+
+}  // namespace foothold

@@ -1,0 +1,37 @@
+#pragma once
+// Runs a fit request: validate, build the model and the problem, choose the start,
+// minimise, compute statistics, judge. No JSON; the CLI and the daemon share this path.
+
+#include <memory>
+#include <string>
+#include <vector>
+
+#include "engine/model/model.h"
+#include "engine/solve/levenberg_marquardt.h"
+#include "engine/solve/problem.h"
+#include "server/fit_outcome.h"
+#include "server/fit_request.h"
+
+namespace foothold {
+
+// A request turned into engine values, ready to minimise. Move-only: `problem.model`
+// points at `model`.
+struct PreparedFit {
+  std::unique_ptr<Model> model;
+  Problem problem;
+  Eigen::VectorXd start;  // size p, inside the bounds, fixed values in place
+  LevenbergMarquardtOptions solver_options;
+  std::string sigma_column;  // empty when unweighted
+};
+
+// Every bad-input check lives here: false with a message naming the field (and the row
+// or parameter) on the first problem found.
+bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error);
+
+// Minimises and describes the result; never fails: numerical outcomes are data.
+FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared);
+
+// PrepareFit followed by RunPreparedFit.
+bool RunFit(const FitRequest& request, FitOutcome* out, std::string* error);
+
+}  // namespace foothold

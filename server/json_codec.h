@@ -1,0 +1,44 @@
+#pragma once
+// The one place where JSON meets foothold's values: the request document (DESIGN.md §3b)
+// to FitRequest, data columns to DataTable, FitOutcome to the result document (§3a) and
+// the catalogue to its listing. Every decoding error names the field and index.
+
+#include <nlohmann/json.hpp>
+#include <string>
+
+#include "server/data_table.h"
+#include "server/fit_outcome.h"
+#include "server/fit_request.h"
+
+namespace foothold {
+
+// Keys keep the order they are written in, so documents read like DESIGN.md shows them.
+using Json = nlohmann::ordered_json;
+
+// Parses JSON text; false with "invalid JSON: parse error at line 3, column 5: ..." (the
+// message starts with `what`, e.g. "request").
+bool ParseJsonText(const std::string& text, const std::string& what, Json* out,
+                   std::string* error);
+
+// {"x": [...], "y": [...], ...}: every value an array of finite numbers, equal lengths.
+// `field` prefixes messages ("data" gives "data.y[3]: expected a finite number, got
+// \"NaN\"").
+bool DecodeDataColumns(const Json& value, const std::string& field, DataTable* out,
+                       std::string* error);
+
+// The request document. Fields absent keep FitRequest's defaults; "data" may be absent
+// (the CLI then supplies it). Unknown fields are errors, so a misspelt key is never ignored.
+bool DecodeFitRequest(const Json& document, FitRequest* out, std::string* error);
+bool DecodeFitRequestText(const std::string& text, FitRequest* out, std::string* error);
+
+// The request as a document again (for storing a job); infinite bounds become null.
+Json EncodeFitRequest(const FitRequest& request);
+
+// The result document of DESIGN.md §3a plus foothold's extra keys (docs/result-document.md).
+// Non-finite numbers become null.
+Json EncodeFitOutcome(const FitOutcome& outcome);
+
+// The catalogue: name, formula, summary, options and parameters with default bounds.
+Json EncodeFamilies();
+
+}  // namespace foothold

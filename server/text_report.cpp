@@ -1,0 +1,155 @@
+#include "server/text_report.h"
+
+#include <algorithm>
+#include <cmath>
+#include <cstdio>
+#include <vector>
+
+#include "heuristics/families/catalogue.h"
+
+namespace foothold {
+namespace {
+
+// Values carry six significant digits, errors three: an error is rarely known better.
+constexpr int kValueDigits = 6;
+constexpr int kErrorDigits = 3;
+
+std::string Join(const std::vector<std::string>& names) {
+  std::string joined;
+  for (const std::string& name : names) {
+    if (!joined.empty()) joined += ", ";
+    joined += name;
+  }
+  return joined;
+}
+
+// Writes rows of cells with each column padded to its widest cell.
+void WriteAligned(const std::vector<std::vector<std::string>>& rows, std::ostream& out) {
+  std::vector<size_t> widths;
+  for (const auto& row : rows) {
+    if (widths.size() < row.size()) widths.resize(row.size(), 0);
+    for (size_t c = 0; c < row.size(); ++c) widths[c] = std::max(widths[c], row[c].size());
+  }
+  for (const auto& row : rows) {
+    std::string line;
+    for (size_t c = 0; c < row.size(); ++c) {
+      line += row[c];
+      if (c + 1 < row.size()) line += std::string(widths[c] - row[c].size() + 2, ' ');
+    }
+    while (!line.empty() && line.back() == ' ') line.pop_back();
+    out << line << '\n';
+  }
+}
+
+std::string ModelLine(const FitOutcome& outcome) {
+  const ModelSpec& model = outcome.model;
+  if (!model.IsFamily()) return model.expression;
+  std::string line = model.family;
+  if (model.degree) line += " (degree " + std::to_string(*model.degree) + ")";
+  if (model.peaks) line += " (" + std::to_string(*model.peaks) + " peaks)";
+  return line;
+}
+
+std::string DataLine(const FitOutcome& outcome, const std::string& source) {
+  std::string line = source + ": " + std::to_string(outcome.statistics.num_points) +
+                     " points, response " + outcome.response + ", ";
+  if (outcome.IsWeighted()) {
+    line += "sigma from column '" + outcome.sigma_column + "' (" +
+            ToString(outcome.sigma_mode) + ")";
+  } else {
+    line += "unweighted";
+  }
+  return line;
+}
+
+double At(const Eigen::VectorXd& values, size_t j) {
+  return j < static_cast<size_t>(values.size()) ? values[j] : std::nan("");
+}
+
+void WriteParameterTable(const FitOutcome& outcome, std::ostream& out) {
+  const FitStatistics& stats = outcome.statistics;
+  std::vector<std::vector<std::string>> rows;
+  rows.push_back({"parameter", "value", "std. error", "95% interval", ""});
+  for (size_t j = 0; j < outcome.parameter_names.size(); ++j) {
+    const bool fixed = j < outcome.is_fixed.size() && outcome.is_fixed[j];
+    const bool at_bound = j < stats.at_bound.size() && stats.at_bound[j];
+    std::vector<std::string> row{outcome.parameter_names[j],
+                                 FormatSignificant(At(outcome.best.parameters, j), kValueDigits)};
+    if (fixed) {
+      row.push_back("fixed");
+      row.push_back("");
+    } else {
+      row.push_back(FormatSignificant(At(stats.standard_errors, j), kErrorDigits));
+      row.push_back("[" + FormatSignificant(At(stats.ci_low, j), kValueDigits) + ", " +
+                    FormatSignificant(At(stats.ci_high, j), kValueDigits) + "]");
+    }
+    row.push_back(at_bound && !fixed ? "at bound" : "");
+    rows.push_back(std::move(row));
+  }
+  WriteAligned(rows, out);
+}
+
+void WriteStatistics(const FitOutcome& outcome, std::ostream& out) {
+  const FitStatistics& stats = outcome.statistics;
+  const LocalFitSummary& best = outcome.best;
+  auto value = [](double v) { return FormatSignificant(v, kValueDigits); };
+  std::vector<std::vector<std::string>> rows{
+      {"points", std::to_string(stats.num_points)},
+      {"free parameters", std::to_string(stats.num_free)},
+      {"degrees of freedom", std::to_string(stats.dof)},
+      {outcome.IsWeighted() ? "chi-square" : "rss", value(stats.rss)},
+      {"reduced chi-square", value(stats.reduced_chi2)},
+      {"R^2", value(stats.r2)},
+      {"RMSE", value(stats.rmse)},
+      {"AIC", value(stats.aic)},
+      {"AICc", value(stats.aicc)},
+      {"BIC", value(stats.bic)},
+      {"Durbin-Watson", value(stats.durbin_watson)},
+      {"runs test p", FormatSignificant(stats.runs_p_value, kErrorDigits) + " (" +
+                          std::to_string(stats.num_runs) + " runs)"},
+      {"condition number", FormatSignificant(stats.condition_number, kErrorDigits)},
+      {"termination", std::string(ToString(best.termination)) +
+                          (best.message.empty() ? "" : ": " + best.message)},
+      {"iterations", std::to_string(best.num_iterations) + " (" +
+                         std::to_string(best.num_evaluations) + " evaluations)"},
+  };
+  WriteAligned(rows, out);
+}
+
+}  // namespace
+
+std::string FormatSignificant(double value, int digits) {
+  if (!std::isfinite(value)) return "n/a";
+  char buffer[48];
+  std::snprintf(buffer, sizeof(buffer), "%.*g", digits, value);
+  return buffer;
+}
+
+void WriteFitReport(const FitOutcome& outcome, const std::string& source, std::ostream& out) {
+  std::vector<std::vector<std::string>> header{{"model", ModelLine(outcome)},
+                                               {"data", DataLine(outcome, source)}};
+  if (!outcome.label.empty()) header.insert(header.begin(), {"label", outcome.label});
+  WriteAligned(header, out);
+  out << '\n';
+  WriteParameterTable(outcome, out);
+  out << '\n';
+  WriteStatistics(outcome, out);
+  out << '\n';
+  out << "verdict: " << outcome.verdict.summary;
+  if (!outcome.verdict.flags.empty()) out << " [" << Join(outcome.verdict.flags) << "]";
+  out << '\n';
+}
+
+void WriteFamiliesTable(std::ostream& out) {
+  std::vector<std::vector<std::string>> rows{{"family", "parameters", "formula"}};
+  for (const FamilyDescription& family : FamilyCatalogue()) {
+    std::vector<std::string> names;
+    for (const FamilyParameter& parameter : family.parameters) names.push_back(parameter.name);
+    std::string name = family.name;
+    if (!family.options.empty()) name += " [" + Join(family.options) + "]";
+    rows.push_back({name, Join(names), family.formula});
+  }
+  WriteAligned(rows, out);
+}
+
+}  // namespace foothold
