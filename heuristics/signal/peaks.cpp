@@ -47,18 +47,26 @@ bool MeasurePeak(const Eigen::VectorXd& x, const SmoothedCurve& smooth, const Ba
   const double fraction = d1[i] / (d1[i] - d1[i + 1]);
   const double center = x[i] + fraction * (x[i + 1] - x[i]);
   if (!(d2[i] + fraction * (d2[i + 1] - d2[i]) < 0.0)) return false;
-  const Eigen::Index apex = fraction < 0.5 ? i : i + 1;
+  // Bases and prominence compare samples with samples only, so that of two neighbouring
+  // noise tops the higher one always wins; the height uses the value at the true center.
+  // The derivative of each local fit and the differences of the smoothed values need not
+  // agree to the sample, so climb from the crossing to the local maximum of the samples.
+  Eigen::Index apex = s[i] >= s[i + 1] ? i : i + 1;
+  while (apex > 0 && s[apex - 1] > s[apex]) --apex;
+  while (apex + 1 < s.size() && s[apex + 1] > s[apex]) ++apex;
+  const Eigen::Index nearest = fraction < 0.5 ? i : i + 1;
   // Second-order Taylor expansion of the local fit from the nearest sample to the center.
-  const double delta = center - x[apex];
-  const double apex_value = s[apex] + d1[apex] * delta + 0.5 * d2[apex] * delta * delta;
+  const double delta = center - x[nearest];
+  const double apex_value =
+      std::max(s[apex], s[nearest] + d1[nearest] * delta + 0.5 * d2[nearest] * delta * delta);
 
-  const Eigen::Index left = FindBase(s, apex, -1, apex_value);
-  const Eigen::Index right = FindBase(s, apex, +1, apex_value);
+  const Eigen::Index left = FindBase(s, apex, -1, s[apex]);
+  const Eigen::Index right = FindBase(s, apex, +1, s[apex]);
   peak->center = center;
   peak->apex_index = static_cast<int>(apex);
   peak->left_index = static_cast<int>(left);
   peak->right_index = static_cast<int>(right);
-  peak->prominence = apex_value - std::max(s[left], s[right]);
+  peak->prominence = s[apex] - std::max(s[left], s[right]);
   peak->height = apex_value - baseline.At(center);
 
   double low = 0.0, high = 0.0;
@@ -133,6 +141,8 @@ PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const Pea
     Peak peak;
     if (!MeasurePeak(x, smooth, baseline, i, &peak)) continue;
     if (peak.prominence < out.prominence_threshold) continue;
+    // Two crossings that climb to the same sample are one peak.
+    if (!out.peaks.empty() && out.peaks.back().apex_index == peak.apex_index) continue;
     peak.height *= sign;
     out.peaks.push_back(peak);
   }

@@ -52,7 +52,7 @@ struct Peak {
   double height = 0.0;      // smoothed value at the center minus the baseline (< 0 for dips)
   double fwhm = 0.0;        // full width at half height, x units
   double prominence = 0.0;  // > 0, y units (also for dips)
-  int apex_index = 0;       // sample nearest the center
+  int apex_index = 0;       // the highest smoothed sample of the peak
   int left_index = 0;       // index range of the peak: its left base ...
   int right_index = 0;      // ... and its right base
   bool is_width_from_prominence = false;  // width used the half-prominence level

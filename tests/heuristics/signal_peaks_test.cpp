@@ -1,0 +1,142 @@
+// Peak detection on smoothed, noisy, unevenly spaced data.
+
+#include <algorithm>
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <random>
+#include <vector>
+
+#include "heuristics/signal/peaks.h"
+#include "heuristics/signal/sort_merge.h"
+
+namespace foothold {
+namespace signal {
+namespace {
+
+// FWHM = 2 sqrt(2 ln 2) sigma for a Gaussian (standard result).
+const double kFwhmPerSigma = 2.0 * std::sqrt(2.0 * std::log(2.0));
+constexpr double kRelativeFwhmTolerance = 0.05;
+constexpr double kCenterToleranceInSteps = 0.5;
+constexpr double kRelativeHeightTolerance = 0.05;
+// Noise standard deviation: about 1% of the peak heights (signal-to-noise 100 to 270).
+constexpr double kNoise = 0.03;
+
+struct GaussianPeak {
+  double height, center, sigma;
+};
+
+double Evaluate(const std::vector<GaussianPeak>& peaks, double baseline, double slope, double x) {
+  double y = baseline + slope * x;
+  for (const GaussianPeak& p : peaks) {
+    const double z = (x - p.center) / p.sigma;
+    y += p.height * std::exp(-0.5 * z * z);
+  }
+  return y;
+}
+
+// Unevenly spaced, shuffled samples with Gaussian noise, prepared with SortAndMerge.
+PreparedCurve MakeCurve(const std::vector<GaussianPeak>& peaks, double sign, double noise_sigma,
+                        unsigned seed) {
+  std::mt19937 rng(seed);
+  std::uniform_real_distribution<double> jitter(-0.4, 0.4);
+  std::normal_distribution<double> noise(0.0, noise_sigma);
+  const int n = 1000;
+  const double step = 0.1;
+  Eigen::VectorXd x(n), y(n);
+  for (int i = 0; i < n; ++i) {
+    x[i] = step * (i + jitter(rng));
+    y[i] = sign * Evaluate(peaks, 0.0, 0.0, x[i]) + 2.0 + 0.01 * x[i] + noise(rng);
+  }
+  std::vector<int> order(n);
+  for (int i = 0; i < n; ++i) order[i] = i;
+  std::shuffle(order.begin(), order.end(), rng);
+  Eigen::VectorXd xs(n), ys(n);
+  for (int i = 0; i < n; ++i) {
+    xs[i] = x[order[i]];
+    ys[i] = y[order[i]];
+  }
+  return SortAndMerge(xs, ys);
+}
+
+void CheckRecovered(const std::vector<GaussianPeak>& truth, const PeakList& found, double sign) {
+  REQUIRE(found.IsOk());
+  REQUIRE(found.peaks.size() == truth.size());
+  for (const GaussianPeak& p : truth) {
+    const auto match = std::min_element(
+        found.peaks.begin(), found.peaks.end(), [&p](const Peak& a, const Peak& b) {
+          return std::abs(a.center - p.center) < std::abs(b.center - p.center);
+        });
+    INFO("true center " << p.center << " found " << match->center << " fwhm " << match->fwhm
+                        << " height " << match->height);
+    CHECK(std::abs(match->center - p.center) < kCenterToleranceInSteps * 0.1);
+    CHECK(match->fwhm == Approx(kFwhmPerSigma * p.sigma).epsilon(kRelativeFwhmTolerance));
+    CHECK(match->height == Approx(sign * p.height).epsilon(kRelativeHeightTolerance));
+    CHECK(match->left_index < match->apex_index);
+    CHECK(match->apex_index < match->right_index);
+  }
+  for (size_t k = 1; k < found.peaks.size(); ++k) {
+    CHECK(found.peaks[k - 1].prominence >= found.peaks[k].prominence);
+  }
+}
+
+const std::vector<GaussianPeak> kThreePeaks = {
+    {5.0, 20.0, 2.0}, {3.0, 50.0, 1.2}, {8.0, 75.0, 3.0}};
+
+TEST_CASE("FindPeaks: three separated gaussians on noisy uneven data", "[heuristics]") {
+  const PreparedCurve curve = MakeCurve(kThreePeaks, 1.0, kNoise, 2024);
+  REQUIRE(curve.IsOk());
+  const PeakList found = FindPeaks(curve.x, curve.y);
+  CheckRecovered(kThreePeaks, found, 1.0);
+  CHECK(found.peaks[0].center == Approx(75.0).margin(0.05));  // the most prominent
+  CHECK(found.noise_sigma == Approx(kNoise).epsilon(0.15));
+}
+
+TEST_CASE("FindPeaks: negative-going peaks when asked", "[heuristics]") {
+  const PreparedCurve curve = MakeCurve(kThreePeaks, -1.0, kNoise, 7);
+  REQUIRE(curve.IsOk());
+  PeakOptions options;
+  CHECK(FindPeaks(curve.x, curve.y, options).peaks.size() < 3);  // maxima: only noise bumps
+  options.negative = true;
+  const PeakList found = FindPeaks(curve.x, curve.y, options);
+  CheckRecovered(kThreePeaks, found, -1.0);
+  CHECK(found.baseline.At(50.0) == Approx(2.5).margin(0.1));
+}
+
+TEST_CASE("FindPeaks: max_peaks keeps the most prominent", "[heuristics]") {
+  const PreparedCurve curve = MakeCurve(kThreePeaks, 1.0, 0.05, 99);
+  PeakOptions options;
+  options.max_peaks = 1;
+  const PeakList found = FindPeaks(curve.x, curve.y, options);
+  REQUIRE(found.peaks.size() == 1);
+  CHECK(found.peaks[0].center == Approx(75.0).margin(0.05));
+}
+
+TEST_CASE("FindPeaks: pure noise gives no peaks and degenerate data a status", "[heuristics]") {
+  std::mt19937 rng(3);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  const int n = 500;
+  Eigen::VectorXd x(n), y(n);
+  for (int i = 0; i < n; ++i) {
+    x[i] = i;
+    y[i] = noise(rng);
+  }
+  const PeakList found = FindPeaks(x, y);
+  REQUIRE(found.IsOk());
+  CHECK(found.peaks.empty());
+
+  const Eigen::VectorXd flat = Eigen::VectorXd::Constant(n, 4.0);
+  const PeakList constant = FindPeaks(x, flat);
+  CHECK(constant.status == SignalStatus::kConstantY);
+  CHECK(constant.message == "all 500 y values equal 4: there is no signal to analyse");
+  const Eigen::VectorXd two = Eigen::VectorXd::LinSpaced(2, 0.0, 1.0);
+  CHECK(FindPeaks(two, two).status == SignalStatus::kTooFewPoints);
+  PeakOptions options;
+  options.min_prominence_sigmas = -1.0;
+  const PeakList invalid = FindPeaks(x, y, options);
+  CHECK(invalid.status == SignalStatus::kInvalidOptions);
+  CHECK(invalid.message == "min_prominence_sigmas = -1: must be finite and >= 0");
+}
+
+}  // namespace
+}  // namespace signal
+}  // namespace foothold
