@@ -7,6 +7,7 @@
 // #include line; a failure names the file, the line number and the include.
 
 #include <algorithm>
+#include <catch2/catch.hpp>
 #include <cctype>
 #include <filesystem>
 #include <fstream>
@@ -16,23 +17,21 @@
 #include <string>
 #include <vector>
 
-#include <catch2/catch.hpp>
-
 namespace fs = std::filesystem;
 
 namespace {
 
 struct IncludeRule {
-  std::string layer;                    // folder under the source root: "engine"
-  std::vector<std::string> forbidden;   // lower-case fragments an include must not contain
+  std::string layer;                   // folder under the source root: "engine"
+  std::vector<std::string> forbidden;  // lower-case fragments an include must not contain
   std::string reason;
 };
 
 const std::vector<IncludeRule>& Rules() {
   static const std::vector<IncludeRule> rules = {
       {"engine",
-       {"heuristics/", "server/", "nlohmann", "spdlog", "fmt/", "asio", "beast", "sqlite",
-        "libpq", "postgres"},
+       {"heuristics/", "server/", "nlohmann", "spdlog", "fmt/", "asio", "beast", "sqlite", "libpq",
+        "postgres"},
        "the engine is mathematics only: Eigen, header-only Boost.Math and the standard "
        "library"},
       {"heuristics",
@@ -50,8 +49,8 @@ struct Violation {
 };
 
 bool IsSourceFile(const fs::path& path) {
-  static const std::vector<std::string> kExtensions = {".h", ".hpp", ".hh", ".cpp", ".cc",
-                                                       ".cxx", ".ipp", ".inl"};
+  static const std::vector<std::string> kExtensions = {".h",  ".hpp", ".hh",  ".cpp",
+                                                       ".cc", ".cxx", ".ipp", ".inl"};
   return std::find(kExtensions.begin(), kExtensions.end(), path.extension().string()) !=
          kExtensions.end();
 }

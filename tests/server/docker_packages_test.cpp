@@ -6,14 +6,13 @@
 // the one documented in Docker's Dockerfile reference.
 
 #include <algorithm>
+#include <catch2/catch.hpp>
 #include <cctype>
 #include <fstream>
 #include <set>
 #include <sstream>
 #include <string>
 #include <vector>
-
-#include <catch2/catch.hpp>
 
 namespace {
 
@@ -139,8 +138,9 @@ std::vector<std::string> AptPackages(const std::vector<Instruction>& instruction
 }
 
 int CountKeyword(const std::vector<Instruction>& instructions, const std::string& keyword) {
-  return static_cast<int>(std::count_if(instructions.begin(), instructions.end(),
-                                        [&](const Instruction& i) { return i.keyword == keyword; }));
+  return static_cast<int>(
+      std::count_if(instructions.begin(), instructions.end(),
+                    [&](const Instruction& i) { return i.keyword == keyword; }));
 }
 
 std::vector<Instruction> InStage(const std::vector<Instruction>& instructions, int stage,
@@ -224,8 +224,7 @@ TEST_CASE("DockerPackages: the build stage installs exactly the build packages o
   }
 }
 
-TEST_CASE("DockerPackages: the image is multi-stage, unprivileged and health-checked",
-          "[server]") {
+TEST_CASE("DockerPackages: the image is multi-stage, unprivileged and health-checked", "[server]") {
   const std::vector<Instruction> instructions = ParseDockerfile(ReadFile(kDockerfilePath));
   const int num_stages = CountKeyword(instructions, "FROM");
   REQUIRE(num_stages >= 2);
