@@ -190,14 +190,17 @@ std::vector<FamilyEntry> BuildEntries() {
                 Free("baseline", "level reached as x -> infinity (y units)")}),
       [](const FamilyRequest&) { return std::make_unique<StretchedExpModel>(); });
 
-  add(Describe("logistic4", "bottom + (top-bottom)/(1 + 10^((log_ec50 - x)*hill))",
-               "A four-parameter dose-response curve; x is log10 of the concentration.",
-               "bottom and top from the low and high ends; log_ec50 where the curve crosses the "
-               "midpoint; hill from the logit-linearisation near it (sign from the trend)",
-               {Free("bottom", "response plateau as hill*x -> -infinity (y units)"),
-                Free("top", "response plateau as hill*x -> +infinity (y units)"),
-                Free("log_ec50", "log10 concentration of the half-maximal response"),
-                Free("hill", "slope factor; negative for inhibition curves")}),
+  add(Describe(
+          "logistic4", "bottom + (top-bottom)/(1 + 10^((log_ec50 - x)*hill))",
+          "A four-parameter dose-response curve; x is log10 of the concentration.",
+          "bottom and top from the low and high ends; log_ec50 where the curve crosses the "
+          "midpoint; hill from the logit-linearisation near it (sign from the trend)",
+          {Free("bottom", "response plateau as hill*x -> -infinity (y units)"),
+           Free("top", "response plateau as hill*x -> +infinity (y units)"),
+           Free("log_ec50", "log10 concentration of the half-maximal response"),
+           Free("hill", "slope factor; negative for inhibition curves")},
+          {},
+          "(bottom, top, hill) and (top, bottom, -hill) give the same curve (not a permutation)"),
       [](const FamilyRequest&) { return std::make_unique<Logistic4Model>(); });
 
   add(Describe("logistic5", "bottom + (top-bottom)/(1 + 10^((log_ec50 - x)*hill))^asymmetry",
