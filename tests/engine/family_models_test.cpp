@@ -2,15 +2,22 @@
 // differences, values at hand-computed points, published width relations, domains, linear
 // parameters, symmetries, Clone and the absence of heap allocation in the hot path.
 
+#include <unistd.h>
+
 #include <algorithm>
 #include <atomic>
 #include <catch2/catch.hpp>
 #include <cctype>
 #include <cmath>
+#include <cstdio>
 #include <cstdlib>
+#include <filesystem>
+#include <fstream>
 #include <functional>
+#include <map>
 #include <new>
 #include <random>
+#include <sstream>
 #include <string>
 #include <vector>
 
@@ -535,6 +542,159 @@ TEST_CASE("FamilyModels: parameter names follow the catalogue table", "[engine]"
         Names{"amplitude", "tau", "frequency", "phase", "baseline"});
   CHECK(GompertzModel().ParameterNames() == Names{"asymptote", "displacement", "rate"});
   CHECK(ArrheniusModel().ParameterNames() == Names{"prefactor", "ea"});
+}
+
+// Reference library check: Debian python3-scipy 1.10 (scipy.stats distribution functions,
+// scipy.special.expit, scipy.constants.R) under /usr/bin/python3. Each family's shape is a
+// known distribution function up to scale: gaussian = norm.pdf, lorentzian = cauchy.pdf,
+// exp_decay = expon.sf, stretched_exp = weibull_min.sf, hill_binding = fisk.cdf (the
+// log-logistic), gompertz = gumbel_r.cdf with loc = displacement/rate, scale = 1/rate.
+// Fails (never skips) when scipy is missing; scripts/setup.sh installs it.
+constexpr const char* kScipyReference = "Debian python3-scipy (scipy.stats, scipy.special)";
+constexpr double kScipyRelativeTolerance = 1e-11;
+
+struct ScipyCase {
+  std::string name;
+  std::unique_ptr<Model> model;
+  std::vector<double> p;
+  double x_low;
+  double x_high;
+  std::string expression;  // numpy/scipy in x (array) and p (list)
+};
+
+std::string PythonList(const double* values, int n) {
+  std::ostringstream out;
+  out.precision(17);
+  out << "[";
+  for (int i = 0; i < n; ++i) out << (i ? ", " : "") << values[i];
+  out << "]";
+  return out.str();
+}
+
+TEST_CASE("FamilyModels: shapes agree with scipy distribution functions", "[engine]") {
+  std::vector<ScipyCase> cases;
+  cases.push_back({"gaussian",
+                   std::make_unique<GaussianModel>(),
+                   {3, 5, 1.2, 0.5},
+                   0,
+                   10,
+                   "p[0]*stats.norm.pdf(x, p[1], p[2])*math.sqrt(2*math.pi)*p[2] + p[3]"});
+  cases.push_back({"lorentzian",
+                   std::make_unique<LorentzianModel>(),
+                   {3, 5, 0.8, 0.5},
+                   0,
+                   10,
+                   "p[0]*stats.cauchy.pdf(x, p[1], p[2])*math.pi*p[2] + p[3]"});
+  // sigma of the Gaussian part = fwhm/(2 sqrt(2 ln 2)); hwhm of the Lorentzian = fwhm/2.
+  cases.push_back(
+      {"pseudo_voigt",
+       std::make_unique<PseudoVoigtModel>(),
+       {4, 5, 1.5, 0.3, 0.2},
+       0,
+       10,
+       "p[0]*(p[3]*stats.cauchy.pdf(x, p[1], p[2]/2)*math.pi*p[2]/2 + (1-p[3])*"
+       "stats.norm.pdf(x, p[1], p[2]/(2*math.sqrt(2*math.log(2))))*math.sqrt(2*math.pi)*"
+       "p[2]/(2*math.sqrt(2*math.log(2)))) + p[4]"});
+  cases.push_back({"exp_decay",
+                   std::make_unique<ExpDecayModel>(),
+                   {5, 2, 0.5},
+                   0,
+                   10,
+                   "p[0]*stats.expon.sf(x, scale=p[1]) + p[2]"});
+  cases.push_back({"biexp_decay",
+                   std::make_unique<BiexpDecayModel>(),
+                   {5, 0.5, 2, 4, 0.1},
+                   0,
+                   10,
+                   "p[0]*stats.expon.sf(x, scale=p[1]) + p[2]*stats.expon.sf(x, scale=p[3]) "
+                   "+ p[4]"});
+  cases.push_back({"stretched_exp",
+                   std::make_unique<StretchedExpModel>(),
+                   {5, 2, 0.6, 0.1},
+                   0,
+                   10,
+                   "p[0]*stats.weibull_min.sf(x, p[2], scale=p[1]) + p[3]"});
+  cases.push_back({"logistic4",
+                   std::make_unique<Logistic4Model>(),
+                   {10, 90, -6, 1.3},
+                   -9,
+                   -3,
+                   "p[0] + (p[1]-p[0])*special.expit(math.log(10)*p[3]*(x - p[2]))"});
+  cases.push_back({"logistic5",
+                   std::make_unique<Logistic5Model>(),
+                   {10, 90, -6, 1.3, 0.4},
+                   -9,
+                   -3,
+                   "p[0] + (p[1]-p[0])*special.expit(math.log(10)*p[3]*(x - p[2]))**p[4]"});
+  cases.push_back({"hill_binding",
+                   std::make_unique<HillBindingModel>(),
+                   {8, 3, 2.5},
+                   0.05,
+                   20,
+                   "p[0]*stats.fisk.cdf(x, p[2], scale=p[1])"});
+  cases.push_back({"gompertz",
+                   std::make_unique<GompertzModel>(),
+                   {10, 2, 0.8},
+                   0,
+                   10,
+                   "p[0]*stats.gumbel_r.cdf(x, loc=p[1]/p[2], scale=1/p[2])"});
+  cases.push_back({"arrhenius",
+                   std::make_unique<ArrheniusModel>(),
+                   {1e6, 5e4},
+                   250,
+                   600,
+                   "p[0]*np.exp(-p[1]/(constants.R*x))"});
+
+  constexpr int kNumPoints = 17;
+  std::ostringstream script;
+  script << "import math\nimport numpy as np\nfrom scipy import stats, special, constants\n"
+         << "print('R', repr(float(constants.R)))\n";
+  std::map<std::string, Eigen::MatrixXd> grids;
+  for (const ScipyCase& c : cases) {
+    Eigen::MatrixXd x = Eigen::VectorXd::LinSpaced(kNumPoints, c.x_low, c.x_high);
+    script << "x = np.array(" << PythonList(x.data(), kNumPoints) << ")\n"
+           << "p = " << PythonList(c.p.data(), static_cast<int>(c.p.size())) << "\n"
+           << "print('" << c.name << "', *[repr(float(v)) for v in (" << c.expression << ")])\n";
+    grids[c.name] = x;
+  }
+  const std::filesystem::path path =
+      std::filesystem::temp_directory_path() /
+      ("foothold_family_scipy_" + std::to_string(::getpid()) + ".py");
+  { std::ofstream(path) << script.str(); }
+  FILE* pipe = ::popen(("/usr/bin/python3 " + path.string() + " 2>&1").c_str(), "r");
+  REQUIRE(pipe != nullptr);
+  std::string output;
+  char buffer[4096];
+  while (std::fgets(buffer, sizeof(buffer), pipe) != nullptr) output += buffer;
+  const int status = ::pclose(pipe);
+  std::filesystem::remove(path);
+  INFO(kScipyReference << " output:\n" << output);
+  REQUIRE(status == 0);
+
+  std::map<std::string, std::vector<double>> reference;
+  std::istringstream lines(output);
+  std::string line;
+  while (std::getline(lines, line)) {
+    std::istringstream fields(line);
+    std::string name;
+    fields >> name;
+    double v;
+    while (fields >> v) reference[name].push_back(v);
+  }
+  REQUIRE(reference["R"].size() == 1);
+  CHECK(kGasConstant == Approx(reference["R"][0]).epsilon(1e-10));
+  for (const ScipyCase& c : cases) {
+    INFO(c.name << " against " << kScipyReference);
+    const std::vector<double>& expected = reference[c.name];
+    REQUIRE(expected.size() == static_cast<size_t>(kNumPoints));
+    const Eigen::VectorXd values = Values(*c.model, grids[c.name], c.p);
+    const double scale = values.cwiseAbs().maxCoeff();
+    for (int i = 0; i < kNumPoints; ++i) {
+      INFO("x = " << grids[c.name](i, 0) << " foothold " << values(i) << " scipy " << expected[i]);
+      CHECK(std::abs(values(i) - expected[i]) <=
+            kScipyRelativeTolerance * std::max(std::abs(expected[i]), 1e-3 * scale));
+    }
+  }
 }
 
 }  // namespace
