@@ -1,0 +1,87 @@
+#include "engine/multistart/internal/basin_clustering.h"
+
+#include <algorithm>
+#include <cassert>
+#include <cmath>
+#include <numeric>
+
+namespace foothold {
+namespace internal {
+
+Eigen::VectorXd Canonicalize(const Eigen::VectorXd& params,
+                             const std::vector<PermutationSymmetry>& symmetries) {
+  Eigen::VectorXd canonical = params;
+  for (const PermutationSymmetry& symmetry : symmetries) {
+    const int num_members = static_cast<int>(symmetry.members.size());
+    if (num_members < 2) continue;
+    const Eigen::VectorXd current = canonical;
+    std::vector<int> order(num_members);
+    std::iota(order.begin(), order.end(), 0);
+    auto key = [&](int g) { return current[symmetry.members[g][symmetry.sort_position]]; };
+    std::stable_sort(order.begin(), order.end(), [&](int a, int b) {
+      // NaN sorts last so the order stays a strict weak ordering.
+      const double ka = key(a);
+      const double kb = key(b);
+      if (std::isnan(ka)) return false;
+      if (std::isnan(kb)) return true;
+      return ka < kb;
+    });
+    for (int slot = 0; slot < num_members; ++slot) {
+      const std::vector<int>& target = symmetry.members[slot];
+      const std::vector<int>& source = symmetry.members[order[slot]];
+      assert(target.size() == source.size());
+      for (size_t k = 0; k < target.size(); ++k) canonical[target[k]] = current[source[k]];
+    }
+  }
+  return canonical;
+}
+
+bool SameBasin(const EndPoint& leader, const Eigen::VectorXd& leader_errors, const EndPoint& point,
+               const BasinTolerances& tolerances) {
+  const double cost_gap = std::abs(point.rss - leader.rss);
+  const double cost_limit =
+      tolerances.cost_relative * std::max(point.rss, leader.rss) + tolerances.cost_absolute;
+  if (!(cost_gap <= cost_limit)) return false;
+  for (Eigen::Index j = 0; j < point.canonical.size(); ++j) {
+    if (!tolerances.is_free.empty() && !tolerances.is_free[j]) continue;
+    const double a = leader.canonical[j];
+    const double b = point.canonical[j];
+    const double scale = tolerances.parameter_scale.size() ? tolerances.parameter_scale[j] : 0;
+    double limit = tolerances.parameter_relative * std::max({std::abs(a), std::abs(b), scale});
+    const double error = leader_errors.size() ? leader_errors[j] : std::nan("");
+    if (std::isfinite(error) && error > 0) {
+      limit = std::max(limit, tolerances.stderr_multiple * error);
+    }
+    if (!(std::abs(a - b) <= limit)) return false;
+  }
+  return true;
+}
+
+std::vector<Cluster> ClusterEndPoints(
+    const std::vector<EndPoint>& points, const BasinTolerances& tolerances,
+    const std::function<Eigen::VectorXd(int position)>& leader_errors) {
+  std::vector<int> order(points.size());
+  std::iota(order.begin(), order.end(), 0);
+  std::sort(order.begin(), order.end(), [&](int a, int b) {
+    if (points[a].rss != points[b].rss) return points[a].rss < points[b].rss;
+    return points[a].start_index < points[b].start_index;
+  });
+  std::vector<Cluster> clusters;
+  std::vector<Eigen::VectorXd> errors;
+  for (int position : order) {
+    bool joined = false;
+    for (size_t c = 0; c < clusters.size() && !joined; ++c) {
+      if (SameBasin(points[clusters[c].leader], errors[c], points[position], tolerances)) {
+        clusters[c].members.push_back(position);
+        joined = true;
+      }
+    }
+    if (joined) continue;
+    clusters.push_back(Cluster{position, {position}});
+    errors.push_back(leader_errors(position));
+  }
+  return clusters;
+}
+
+}  // namespace internal
+}  // namespace foothold

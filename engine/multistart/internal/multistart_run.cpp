@@ -1,0 +1,334 @@
+#include "engine/multistart/internal/multistart_run.h"
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <set>
+#include <sstream>
+
+#include "engine/solve/levenberg_marquardt.h"
+#include "engine/stats/fit_statistics.h"
+
+namespace foothold {
+namespace internal {
+namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+// Stream index of the Sobol digital shift; start streams use the start index (< 2^31).
+constexpr std::uint64_t kShiftStream = ~std::uint64_t{0};
+// Jitter perturbs one of the kJitterBasins best basins, chosen uniformly.
+constexpr int kJitterBasins = 3;
+// Costs within this share of the weighted total sum of squares compare equal (exact fits).
+constexpr double kCostFloorShare = 1e-12;
+
+double WeightedTotalSquares(const Dataset& data) {
+  const Eigen::Index n = data.response.size();
+  if (n == 0) return 0;
+  Eigen::VectorXd w2 = Eigen::VectorXd::Ones(n);
+  if (data.HasSigma()) w2 = data.sigma.array().square().inverse();
+  const double mean = (w2.array() * data.response.array()).sum() / w2.sum();
+  return (w2.array() * (data.response.array() - mean).square()).sum();
+}
+
+}  // namespace
+
+MultistartRun::MultistartRun(const Problem& problem, const std::vector<StartCandidate>& candidates,
+                             const SearchBox& box, const MultistartOptions& options,
+                             Clock::time_point started)
+    : problem_(problem),
+      candidates_(candidates),
+      options_(options),
+      started_(started),
+      box_(ResolveBox(problem, candidates, box)),
+      symmetries_(problem.model->Symmetries()),
+      sobol_(std::max(1, problem.NumFree())),
+      pool_(options.num_threads) {
+  RandomStream shift_stream(options.seed, kShiftStream);
+  for (int d = 0; d < sobol_.Dimension(); ++d) {
+    sobol_shift_.push_back(static_cast<std::uint32_t>(shift_stream.NextBits() >> 32));
+  }
+  total_weighted_squares_ = WeightedTotalSquares(problem.data);
+  for (int worker = 0; worker < pool_.NumWorkers(); ++worker) {
+    worker_models_.push_back(problem.model->Clone());
+    worker_problems_.push_back(problem);
+    worker_problems_.back().model = worker_models_.back().get();
+  }
+  best_rss_so_far_ = kNaN;
+}
+
+bool MultistartRun::IsCancelled() const {
+  if (options_.cancel_flag && options_.cancel_flag->load(std::memory_order_relaxed)) return true;
+  return options_.is_cancelled && options_.is_cancelled();
+}
+
+double MultistartRun::ElapsedSeconds() const {
+  return std::chrono::duration<double>(Clock::now() - started_).count();
+}
+
+std::vector<MultistartRun::PlannedStart> MultistartRun::PlanRound(int begin, int end) {
+  const int num_candidates = static_cast<int>(candidates_.size());
+  const int first_generated = std::max(begin, num_candidates);
+  const int num_generated = std::max(0, end - first_generated);
+  // The last num_jitter starts of the round perturb known basins; rounding half up.
+  const int num_jitter =
+      summary_.basins.empty()
+          ? 0
+          : static_cast<int>(std::floor(options_.jitter_share * num_generated + 0.5));
+  std::vector<PlannedStart> round;
+  for (int index = begin; index < end; ++index) {
+    PlannedStart planned;
+    planned.index = index;
+    if (index < num_candidates) {
+      planned.origin = candidates_[index].origin;
+      planned.start = ClampStart(problem_, box_, candidates_[index].parameters);
+    } else if (index >= end - num_jitter) {
+      RandomStream stream(options_.seed, static_cast<std::uint64_t>(index));
+      const int choices = std::min<int>(kJitterBasins, static_cast<int>(summary_.basins.size()));
+      const int pick = std::min(choices - 1, static_cast<int>(stream.NextUniform() * choices));
+      const Basin& basin = summary_.basins[pick];
+      planned.origin = "jitter";
+      planned.start = ClampStart(
+          problem_, box_, JitterStart(box_, basin.parameters, basin.standard_errors, &stream));
+    } else {
+      planned.origin = "sobol";
+      planned.start =
+          ClampStart(problem_, box_, SobolStart(box_, sobol_, sobol_shift_, num_sobol_planned_++));
+    }
+    round.push_back(std::move(planned));
+  }
+  return round;
+}
+
+StartRecord MultistartRun::RunStart(const PlannedStart& planned, int worker) {
+  LevenbergMarquardtOptions local = options_.local;
+  const double remaining = options_.deadline_seconds - ElapsedSeconds();
+  local.deadline_seconds = std::min(local.deadline_seconds, std::max(remaining, 1e-9));
+  const IterationCallback user_callback = options_.local.callback;
+  local.callback = [this, &user_callback](int iteration, double cost) {
+    if (IsCancelled()) return false;
+    return !user_callback || user_callback(iteration, cost);
+  };
+  const LocalFitSummary fit =
+      MinimizeLevenbergMarquardt(worker_problems_[worker], planned.start, local);
+
+  StartRecord record;
+  record.index = planned.index;
+  record.origin = planned.origin;
+  record.start = fit.start;
+  record.end = fit.parameters;
+  record.initial_rss = fit.initial_cost;
+  record.rss = fit.final_cost;
+  record.termination = fit.termination;
+  record.message = fit.message;
+  record.num_iterations = fit.num_iterations;
+  record.num_evaluations = fit.num_evaluations;
+  record.seconds = fit.total_seconds;
+  record.converged = fit.IsConverged() && std::isfinite(fit.final_cost);
+  if (fit.termination == Termination::kCancelled && IsCancelled()) saw_cancel_ = true;
+  if (fit.termination == Termination::kDeadline && DeadlinePassed()) saw_deadline_ = true;
+  return record;
+}
+
+std::vector<MultistartRun::Outcome> MultistartRun::RunRound(
+    const std::vector<PlannedStart>& round) {
+  std::vector<Outcome> outcomes(round.size());
+  pool_.ParallelFor(static_cast<int>(round.size()), [&](int item, int worker) {
+    if (IsCancelled()) {
+      saw_cancel_ = true;
+      return;
+    }
+    if (DeadlinePassed()) {
+      saw_deadline_ = true;
+      return;
+    }
+    outcomes[item].record = RunStart(round[item], worker);
+    outcomes[item].ran = true;
+    std::lock_guard<std::mutex> lock(progress_mutex_);
+    ++num_finished_;
+    const StartRecord& record = outcomes[item].record;
+    if (record.converged && !(record.rss >= best_rss_so_far_)) best_rss_so_far_ = record.rss;
+    if (options_.progress) {
+      options_.progress(num_finished_, summary_.num_starts_planned, best_rss_so_far_);
+    }
+  });
+  return outcomes;
+}
+
+namespace {
+
+// Standard errors at `params` and whether they are usable (finite, scale estimable).
+std::pair<Eigen::VectorXd, bool> ErrorsAt(const Problem& problem, const Eigen::VectorXd& params,
+                                          const StatisticsOptions& options) {
+  const FitStatistics statistics = ComputeFitStatistics(problem, params, options);
+  const bool usable = statistics.is_finite && statistics.has_standard_errors;
+  Eigen::VectorXd errors = statistics.standard_errors;
+  if (errors.size() != params.size()) errors = Eigen::VectorXd::Constant(params.size(), kNaN);
+  return {errors, usable};
+}
+
+}  // namespace
+
+void MultistartRun::UpdateBasins() {
+  std::vector<EndPoint> points;
+  std::vector<int> record_of_point;
+  for (size_t r = 0; r < summary_.starts.size(); ++r) {
+    StartRecord& record = summary_.starts[r];
+    record.basin = -1;
+    if (!record.converged) continue;
+    points.push_back({record.index, record.rss, Canonicalize(record.end, symmetries_)});
+    record_of_point.push_back(static_cast<int>(r));
+  }
+  BasinTolerances tolerances;
+  tolerances.cost_relative = options_.cost_relative_tolerance;
+  tolerances.cost_absolute = kCostFloorShare * total_weighted_squares_;
+  tolerances.stderr_multiple = options_.basin_stderr_multiple;
+  tolerances.parameter_relative = options_.parameter_relative_tolerance;
+  tolerances.parameter_scale = box_.upper - box_.lower;
+  tolerances.is_free.resize(problem_.NumParameters());
+  for (int j = 0; j < problem_.NumParameters(); ++j) tolerances.is_free[j] = !problem_.IsFixed(j);
+
+  auto errors_of_leader = [&](int position) -> Eigen::VectorXd {
+    auto found = errors_by_start_.find(points[position].start_index);
+    if (found == errors_by_start_.end()) {
+      found = errors_by_start_
+                  .emplace(points[position].start_index,
+                           ErrorsAt(problem_, points[position].canonical, options_.statistics))
+                  .first;
+    }
+    return found->second.first;
+  };
+  const std::vector<Cluster> clusters = ClusterEndPoints(points, tolerances, errors_of_leader);
+
+  summary_.basins.clear();
+  for (size_t c = 0; c < clusters.size(); ++c) {
+    const EndPoint& leader = points[clusters[c].leader];
+    Basin basin;
+    basin.id = static_cast<int>(c);
+    basin.rss = leader.rss;
+    basin.delta_rss = leader.rss - points[clusters.front().leader].rss;
+    basin.num_starts = static_cast<int>(clusters[c].members.size());
+    basin.share = static_cast<double>(basin.num_starts) / static_cast<double>(points.size());
+    basin.representative_start = leader.start_index;
+    basin.parameters = leader.canonical;
+    const auto& errors = errors_by_start_.at(leader.start_index);
+    basin.standard_errors = errors.first;
+    basin.has_standard_errors = errors.second;
+    for (int position : clusters[c].members) {
+      summary_.starts[record_of_point[position]].basin = basin.id;
+    }
+    summary_.basins.push_back(std::move(basin));
+  }
+}
+
+StoppingRuleEstimate MultistartRun::EstimateFromSobolStarts() const {
+  // The rule assumes starts drawn uniformly over the region, so only the Sobol starts count:
+  // candidates and jitter are aimed at basins already known.
+  int n = 0;
+  std::set<int> basins;
+  for (const StartRecord& record : summary_.starts) {
+    if (record.origin != "sobol" || record.basin < 0) continue;
+    ++n;
+    basins.insert(record.basin);
+  }
+  return EstimateUnseenMinima(n, static_cast<int>(basins.size()));
+}
+
+void MultistartRun::FillVerdict() {
+  summary_.best_gap_chi2 = kNaN;
+  const bool absolute = problem_.data.HasSigma() && problem_.sigma_mode == SigmaMode::kAbsolute;
+  summary_.gap_in_chi2_units = absolute;
+  if (summary_.basins.empty()) return;
+  const double best = summary_.basins.front().rss;
+  const double dof = problem_.data.NumPoints() - problem_.NumFree();
+  summary_.best_basin_single_start = summary_.basins.front().num_starts == 1;
+  for (size_t b = 1; b < summary_.basins.size(); ++b) {
+    const double delta = summary_.basins[b].delta_rss;
+    double gap;
+    if (absolute) {
+      gap = delta;
+    } else if (best > 0 && dof > 0) {
+      gap = delta * dof / best;  // delta rss over the variance estimate best / dof
+    } else {
+      gap = delta > 0 ? std::numeric_limits<double>::infinity() : 0;
+    }
+    if (b == 1) summary_.best_gap_chi2 = gap;
+    if (gap < options_.ambiguity_chi2_gap) summary_.ambiguous_basins = true;
+  }
+}
+
+MultistartSummary MultistartRun::Execute() {
+  const int num_candidates = static_cast<int>(candidates_.size());
+  summary_.seed = options_.seed;
+  summary_.num_threads = pool_.NumWorkers();
+  summary_.round_size = options_.round_size;
+  summary_.num_candidates = num_candidates;
+  const int planned = std::max(options_.ResolvedMaxStarts(problem_.NumFree()), num_candidates);
+  summary_.num_starts_planned = planned;
+  std::ostringstream message;
+  summary_.stop = MultistartStop::kBudget;
+
+  int begin = 0;
+  while (begin < planned) {
+    if (IsCancelled()) saw_cancel_ = true;
+    if (DeadlinePassed()) saw_deadline_ = true;
+    if (saw_cancel_ || saw_deadline_) break;
+    const int end = std::min(begin + options_.round_size, planned);
+    const std::vector<Outcome> outcomes = RunRound(PlanRound(begin, end));
+    ++summary_.num_rounds;
+    for (const Outcome& outcome : outcomes) {
+      if (outcome.ran) summary_.starts.push_back(outcome.record);
+    }
+    UpdateBasins();
+    begin = end;
+    if (saw_cancel_ || saw_deadline_ || begin >= planned) break;
+    // Boender & Rinnooy Kan (1987): only at round boundaries, after every candidate ran.
+    if (options_.use_stopping_rule && begin >= num_candidates) {
+      const StoppingRuleEstimate estimate = EstimateFromSobolStarts();
+      if (ShouldStop(estimate, options_.stopping_threshold)) {
+        summary_.stop = MultistartStop::kStoppingRule;
+        message << "expected unseen basins " << estimate.expected_unseen_minima << " < "
+                << options_.stopping_threshold << " after " << estimate.num_searches
+                << " converged Sobol starts in " << estimate.num_minima << " basins";
+        break;
+      }
+    }
+  }
+  const int num_run = static_cast<int>(summary_.starts.size());
+  if (saw_cancel_) {
+    summary_.stop = MultistartStop::kCancelled;
+    message << "cancelled by the caller after " << num_run << " starts";
+  } else if (saw_deadline_) {
+    summary_.stop = MultistartStop::kDeadline;
+    message << "elapsed seconds " << ElapsedSeconds() << " > deadline_seconds "
+            << options_.deadline_seconds << " after " << num_run << " starts";
+  } else if (summary_.stop == MultistartStop::kBudget) {
+    message << "all " << planned << " planned starts ran";
+  }
+  summary_.message = message.str();
+
+  summary_.num_starts_run = num_run;
+  double best_unconverged = std::numeric_limits<double>::infinity();
+  for (const StartRecord& record : summary_.starts) {
+    if (record.converged) ++summary_.num_converged;
+    if (record.termination == Termination::kNonFiniteModel) ++summary_.num_non_finite;
+    if (summary_.basins.empty() && std::isfinite(record.rss) && record.rss < best_unconverged) {
+      best_unconverged = record.rss;
+      summary_.best_start_index = record.index;
+    }
+  }
+  if (!summary_.basins.empty())
+    summary_.best_start_index = summary_.basins.front().representative_start;
+
+  const StoppingRuleEstimate estimate = EstimateFromSobolStarts();
+  summary_.rule_num_searches = estimate.num_searches;
+  summary_.rule_num_basins = estimate.num_minima;
+  summary_.expected_num_basins = estimate.expected_num_minima;
+  summary_.expected_unseen_basins = estimate.expected_unseen_minima;
+  summary_.expected_unobserved_share = estimate.expected_unobserved_share;
+  FillVerdict();
+  summary_.total_seconds = ElapsedSeconds();
+  return summary_;
+}
+
+}  // namespace internal
+}  // namespace foothold

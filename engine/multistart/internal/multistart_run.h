@@ -1,0 +1,87 @@
+#pragma once
+// One multistart run: the round loop behind RunMultistart (inputs already validated).
+
+#include <Eigen/Core>
+#include <atomic>
+#include <chrono>
+#include <map>
+#include <memory>
+#include <mutex>
+#include <vector>
+
+#include "engine/multistart/internal/basin_clustering.h"
+#include "engine/multistart/internal/sobol_sequence.h"
+#include "engine/multistart/internal/start_schedule.h"
+#include "engine/multistart/internal/stopping_rule.h"
+#include "engine/multistart/internal/thread_pool.h"
+#include "engine/multistart/multistart_options.h"
+#include "engine/multistart/multistart_summary.h"
+
+namespace foothold {
+namespace internal {
+
+class MultistartRun {
+ public:
+  using Clock = std::chrono::steady_clock;
+
+  MultistartRun(const Problem& problem, const std::vector<StartCandidate>& candidates,
+                const SearchBox& box, const MultistartOptions& options, Clock::time_point started);
+
+  MultistartSummary Execute();
+
+ private:
+  struct PlannedStart {
+    int index = 0;
+    std::string origin;
+    Eigen::VectorXd start;
+  };
+  // What happened to one planned start of a round.
+  struct Outcome {
+    bool ran = false;
+    StartRecord record;
+  };
+
+  // The starts of indices [begin, end): candidates, then Sobol points and jitter whose
+  // content depends only on the basins of earlier rounds.
+  std::vector<PlannedStart> PlanRound(int begin, int end);
+  // Runs a round on the pool; outcomes in index order.
+  std::vector<Outcome> RunRound(const std::vector<PlannedStart>& round);
+  StartRecord RunStart(const PlannedStart& planned, int worker);
+  // Re-clusters every converged start and sets summary_.basins and the records' basin ids.
+  void UpdateBasins();
+  StoppingRuleEstimate EstimateFromSobolStarts() const;
+  void FillVerdict();
+
+  bool IsCancelled() const;
+  double ElapsedSeconds() const;
+  bool DeadlinePassed() const { return ElapsedSeconds() > options_.deadline_seconds; }
+
+  const Problem& problem_;
+  const std::vector<StartCandidate>& candidates_;
+  const MultistartOptions& options_;
+  Clock::time_point started_;
+  ResolvedBox box_;
+  std::vector<PermutationSymmetry> symmetries_;
+  SobolSequence sobol_;
+  std::vector<std::uint32_t> sobol_shift_;
+  std::uint64_t num_sobol_planned_ = 0;
+  double total_weighted_squares_ = 0;
+
+  ThreadPool pool_;
+  std::vector<std::unique_ptr<Model>> worker_models_;
+  std::vector<Problem> worker_problems_;
+
+  // Progress, shared by the workers.
+  std::mutex progress_mutex_;
+  int num_finished_ = 0;
+  double best_rss_so_far_ = 0;
+  std::atomic<bool> saw_cancel_{false};
+  std::atomic<bool> saw_deadline_{false};
+
+  // Standard errors at each basin representative, by start index, computed once.
+  std::map<int, std::pair<Eigen::VectorXd, bool>> errors_by_start_;
+  MultistartSummary summary_;
+};
+
+}  // namespace internal
+}  // namespace foothold
