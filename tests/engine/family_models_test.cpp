@@ -427,6 +427,34 @@ TEST_CASE("FamilyModels: undefined points and parameters give NaN", "[engine]") 
   }
 }
 
+TEST_CASE("FamilyModels: limits at x = 0 replace the indeterminate forms", "[engine]") {
+  Eigen::MatrixXd x(1, 1);
+  x(0, 0) = 0.0;
+  auto jacobian_at_zero = [&x](const Model& model, const std::vector<double>& p) {
+    Eigen::VectorXd values(1);
+    Eigen::MatrixXd jacobian(1, model.NumParameters());
+    model.EvaluateWithJacobian(x, p.data(), values.data(), jacobian.data());
+    return std::make_pair(values(0), Eigen::VectorXd(jacobian.row(0).transpose()));
+  };
+  // stretched_exp: (x/tau)^beta and its beta derivative (x/tau)^beta ln(x/tau) vanish.
+  const auto [stretched, d_stretched] = jacobian_at_zero(StretchedExpModel(), {5, 2, 0.6, 0.1});
+  CHECK(stretched == 5.1);
+  CHECK(d_stretched(0) == 1.0);
+  CHECK(d_stretched(1) == 0.0);
+  CHECK(d_stretched(2) == 0.0);
+  CHECK(d_stretched(3) == 1.0);
+  // hill_binding: no binding and no sensitivity at zero ligand for n > 0.
+  const auto [hill, d_hill] = jacobian_at_zero(HillBindingModel(), {8, 3, 2.5});
+  CHECK(hill == 0.0);
+  CHECK((d_hill.array() == 0.0).all());
+  // power_law with exponent > 0: x^k ln x -> 0.
+  const auto [power, d_power] = jacobian_at_zero(PowerLawModel(), {2, 1.5});
+  CHECK(power == 0.0);
+  CHECK((d_power.array() == 0.0).all());
+  // power_law with exponent <= 0 has no finite exponent derivative at 0.
+  CHECK(std::isnan(jacobian_at_zero(PowerLawModel(), {2, -0.5}).second(1)));
+}
+
 TEST_CASE("FamilyModels: steep curves stay finite far from their midpoint", "[engine]") {
   Eigen::MatrixXd x(4, 1);
   x << -400, -1, 1, 400;
