@@ -1,7 +1,5 @@
 #include "engine/stats/fit_statistics.h"
 
-#include <boost/math/distributions/normal.hpp>
-#include <boost/math/distributions/students_t.hpp>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -10,6 +8,7 @@
 #include <string>
 
 #include "engine/stats/internal/covariance.h"
+#include "engine/stats/internal/distributions.h"
 #include "engine/stats/internal/residual_tests.h"
 
 namespace foothold {
@@ -94,12 +93,17 @@ void ComputeGoodnessOfFit(const Problem& problem, const Eigen::VectorXd& weighte
   stats->reduced_chi2 = stats->dof > 0 ? stats->rss / stats->dof : kNaN;
   stats->rmse = n > 0 ? std::sqrt(stats->rss / n) : kNaN;
 
-  const Eigen::ArrayXd weights = inverse_sigma.array().square();
-  const double weighted_mean = (weights * y.array()).sum() / weights.sum();
-  const double total = (weights * (y.array() - weighted_mean).square()).sum();
-  stats->r2 = n > 0 && total > 0 ? 1 - stats->rss / total : kNaN;
-  if (n > 0 && !(total > 0))
+  // Tested on the data, not on the total sum of squares, which rounding keeps from being 0.
+  const bool is_constant = n == 0 || y.maxCoeff() == y.minCoeff();
+  if (is_constant) {
+    stats->r2 = kNaN;
     AppendNote("the response is constant: r2 is undefined", &stats->message);
+  } else {
+    const Eigen::ArrayXd weights = inverse_sigma.array().square();
+    const double weighted_mean = (weights * y.array()).sum() / weights.sum();
+    const double total = (weights * (y.array() - weighted_mean).square()).sum();
+    stats->r2 = 1 - stats->rss / total;
+  }
 
   // Gaussian log-likelihood with the variance estimated: -2 ln L = n ln(rss/n) + const;
   // the constant is dropped, and k counts the variance as a parameter.
@@ -131,10 +135,11 @@ void ComputeResidualDiagnostics(const Problem& problem, const Eigen::VectorXd& w
 // with dof degrees of freedom (exact for linear models with Gaussian errors).
 double IntervalQuantile(bool is_absolute, int dof, double confidence_level) {
   const double upper_tail = 1 - (1 - confidence_level) / 2;
-  if (is_absolute)
-    return boost::math::quantile(boost::math::normal_distribution<double>(), upper_tail);
+  if (is_absolute) {
+    return boost::math::quantile(internal::NormalDistribution(), upper_tail);
+  }
   if (dof <= 0) return kNaN;
-  return boost::math::quantile(boost::math::students_t_distribution<double>(dof), upper_tail);
+  return boost::math::quantile(internal::StudentsTDistribution(dof), upper_tail);
 }
 
 std::string DescribeUnidentifiable(const Problem& problem, const FitStatistics& stats) {

@@ -500,6 +500,18 @@ TEST_CASE("FitStatistics: dof 0 exact fit has no error estimate without absolute
   CHECK(std::isfinite(absolute.standard_errors[0]));
 }
 
+TEST_CASE("FitStatistics: r2 is undefined for a constant response", "[engine]") {
+  // 0.1 is not exact in binary, so the total sum of squares about the computed mean need not
+  // be exactly 0; the check is on the data instead.
+  const HandModel model = LineModel();
+  const FitStatistics stats =
+      ComputeFitStatistics(MakeProblem(model, {1, 2, 3, 4, 5, 6, 7}, std::vector<double>(7, 0.1)),
+                           Eigen::Vector2d(0.01, 0.05));
+  CHECK(std::isnan(stats.r2));
+  CHECK(stats.message.find("r2 is undefined") != std::string::npos);
+  CHECK(std::isfinite(stats.aic));
+}
+
 TEST_CASE("FitStatistics: non-finite model output is reported, not computed on", "[engine]") {
   const HandModel model(
       {"b"}, [](double x, const double* b) { return std::log(b[0]) * x; },

@@ -1,10 +1,11 @@
 #include "engine/stats/internal/residual_tests.h"
 
 #include <algorithm>
-#include <boost/math/distributions/normal.hpp>
 #include <cmath>
 #include <limits>
 #include <numeric>
+
+#include "engine/stats/internal/distributions.h"
 
 namespace foothold {
 namespace internal {
@@ -75,8 +76,8 @@ RunsTest WaldWolfowitzRuns(const Eigen::VectorXd& residuals, const std::vector<i
     return test;
   }
   test.z = (test.num_runs - test.expected_runs) / std::sqrt(test.variance);
-  const boost::math::normal_distribution<double> standard_normal;
-  test.p_value = 2 * boost::math::cdf(boost::math::complement(standard_normal, std::abs(test.z)));
+  test.p_value =
+      2 * boost::math::cdf(boost::math::complement(NormalDistribution(), std::abs(test.z)));
   return test;
 }
 
