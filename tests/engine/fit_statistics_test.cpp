@@ -80,7 +80,10 @@ struct OlsLine {
 OlsLine FitOlsLine(const std::vector<double>& x, const std::vector<double>& y) {
   const double n = x.size();
   double xbar = 0, ybar = 0;
-  for (size_t i = 0; i < x.size(); ++i) xbar += x[i] / n, ybar += y[i] / n;
+  for (size_t i = 0; i < x.size(); ++i) {
+    xbar += x[i] / n;
+    ybar += y[i] / n;
+  }
   double sxx = 0, sxy = 0;
   for (size_t i = 0; i < x.size(); ++i) {
     sxx += (x[i] - xbar) * (x[i] - xbar);
@@ -113,7 +116,8 @@ void ReadNist(const std::string& name, std::vector<double>* x, std::vector<doubl
   int first = 0, last = -1;
   for (size_t k = 0; k < 10 && k < lines.size(); ++k) {
     if (std::regex_search(lines[k], match, range)) {
-      first = std::stoi(match[1]), last = std::stoi(match[2]);
+      first = std::stoi(match[1]);
+      last = std::stoi(match[2]);
     }
   }
   REQUIRE(first > 0);
@@ -121,7 +125,8 @@ void ReadNist(const std::string& name, std::vector<double>* x, std::vector<doubl
     std::istringstream row(lines[k - 1]);
     double yi = 0, xi = 0;
     REQUIRE(static_cast<bool>(row >> yi >> xi));
-    y->push_back(yi), x->push_back(xi);
+    y->push_back(yi);
+    x->push_back(xi);
   }
 }
 
@@ -292,7 +297,9 @@ TEST_CASE("FitStatistics: absolute sigma uses scale 1 and the normal quantile", 
   for (double xi : kLineX) {
     sigma.push_back(0.1 + 0.05 * xi);
     const double w = 1 / (sigma.back() * sigma.back());
-    s += w, sx += w * xi, sxx += w * xi * xi;
+    s += w;
+    sx += w * xi;
+    sxx += w * xi * xi;
   }
   const double d = s * sxx - sx * sx;
   Problem problem = MakeProblem(model, kLineX, kLineY, sigma);
@@ -316,7 +323,7 @@ TEST_CASE("FitStatistics: absolute sigma uses scale 1 and the normal quantile", 
 TEST_CASE("FitStatistics: (a+b)*x is rank 1 with both parameters unidentifiable", "[engine]") {
   const HandModel model(
       {"a", "b"}, [](double x, const double* b) { return (b[0] + b[1]) * x; },
-      [](double x, const double*, double* g) { g[0] = x, g[1] = x; });
+      [](double x, const double*, double* g) { g[0] = g[1] = x; });
   const FitStatistics stats =
       ComputeFitStatistics(MakeProblem(model, kLineX, kLineY), Eigen::Vector2d(1.0, 1.0));
   CHECK(stats.rank == 1);
@@ -338,7 +345,10 @@ TEST_CASE("FitStatistics: an identifiable parameter beside a null direction keep
   // rss / (n - 3), larger by (n - 2) / (n - 3).
   const HandModel model(
       {"a", "b", "c"}, [](double x, const double* b) { return (b[0] + b[1]) * x + b[2]; },
-      [](double x, const double*, double* g) { g[0] = x, g[1] = x, g[2] = 1; });
+      [](double x, const double*, double* g) {
+        g[0] = g[1] = x;
+        g[2] = 1;
+      });
   const OlsLine ols = FitOlsLine(kLineX, kLineY);
   const double n = kLineX.size();
   const FitStatistics stats =
@@ -380,8 +390,10 @@ TEST_CASE("FitStatistics: a fixed parameter has zero rows and a point interval",
   problem.is_fixed = {false, true};
   const double q = 0.5;
   double sx2 = 0, sxy = 0;
-  for (size_t i = 0; i < kLineX.size(); ++i)
-    sx2 += kLineX[i] * kLineX[i], sxy += kLineX[i] * (kLineY[i] - q);
+  for (size_t i = 0; i < kLineX.size(); ++i) {
+    sx2 += kLineX[i] * kLineX[i];
+    sxy += kLineX[i] * (kLineY[i] - q);
+  }
   const double slope = sxy / sx2;
   double rss = 0;
   for (size_t i = 0; i < kLineX.size(); ++i) rss += std::pow(kLineY[i] - slope * kLineX[i] - q, 2);
@@ -469,7 +481,11 @@ TEST_CASE("FitStatistics: at_bound within the relative tolerance, absolute at a 
           "[engine]") {
   const HandModel model(
       {"a", "b", "c"}, [](double x, const double* b) { return b[0] + b[1] * x + b[2] * x * x; },
-      [](double x, const double*, double* g) { g[0] = 1, g[1] = x, g[2] = x * x; });
+      [](double x, const double*, double* g) {
+        g[0] = 1;
+        g[1] = x;
+        g[2] = x * x;
+      });
   Problem problem = MakeProblem(model, {1, 2, 3, 4, 5}, {1.1, 2.3, 2.9, 4.2, 5.1});
   problem.lower = Eigen::Vector3d(0, -10, 5);
   problem.upper = Eigen::Vector3d(10, 2, 20);
