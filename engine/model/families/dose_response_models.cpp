@@ -3,7 +3,7 @@
 #include <algorithm>
 #include <cmath>
 
-#include "engine/model/families/logistic.h"
+#include "engine/model/families/internal/logistic.h"
 
 namespace foothold {
 

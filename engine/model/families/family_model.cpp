@@ -9,8 +9,9 @@ namespace foothold {
 namespace {
 
 // A broken invariant between layers (the caller passed the wrong predictor matrix): abort.
+// An empty matrix has nothing to evaluate, whatever its column count.
 void CheckOneColumn(const Eigen::MatrixXd& x) {
-  if (x.cols() != 1) {
+  if (x.cols() != 1 && x.rows() > 0) {
     std::fprintf(stderr, "foothold: family model expects 1 predictor column, got %ld\n",
                  static_cast<long>(x.cols()));
     std::abort();

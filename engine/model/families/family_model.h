@@ -11,6 +11,8 @@
 
 namespace foothold {
 
+// Family models hold no mutable state: Evaluate and EvaluateWithJacobian are safe to call
+// from several threads on one instance (Clone is still provided, as the interface asks).
 class FamilyModel : public Model {
  public:
   int NumParameters() const final { return static_cast<int>(parameter_names_.size()); }
