@@ -11,6 +11,9 @@
 #include <string>
 #include <vector>
 
+#include "engine/model/dataset.h"
+#include "engine/model/expression_model.h"
+
 namespace foothold {
 namespace certification {
 
@@ -192,6 +195,24 @@ inline bool LoadNistProblems(const std::string& directory, std::vector<NistProbl
     return false;
   }
   return true;
+}
+
+// The dataset a problem's model reads: the predictor columns by name, and the response from
+// the problem's response expression over all data columns (EvaluateColumnExpression, the path
+// a user's response expression such as "log(y)" takes).
+inline bool BuildNistDataset(const NistProblem& p, Dataset* data, std::string* error) {
+  data->predictor_names = p.predictors;
+  data->predictors.resize(p.table.rows(), static_cast<Eigen::Index>(p.predictors.size()));
+  for (size_t j = 0; j < p.predictors.size(); ++j) {
+    size_t column = 0;
+    while (column < p.data_columns.size() && p.data_columns[column] != p.predictors[j]) ++column;
+    if (column == p.data_columns.size()) {
+      *error = "predictor '" + p.predictors[j] + "' is not a data column";
+      return false;
+    }
+    data->predictors.col(j) = p.table.col(column);
+  }
+  return EvaluateColumnExpression(p.response, p.data_columns, p.table, &data->response, error);
 }
 
 }  // namespace certification

@@ -85,22 +85,6 @@ const std::vector<NistProblem>& Problems() {
   return problems;
 }
 
-// The dataset a problem's model reads: predictor columns by name, response from the
-// response expression over all data columns.
-bool BuildDataset(const NistProblem& p, Dataset* data, std::string* error) {
-  data->predictor_names = p.predictors;
-  data->predictors.resize(p.table.rows(), static_cast<Eigen::Index>(p.predictors.size()));
-  for (size_t j = 0; j < p.predictors.size(); ++j) {
-    const auto it = std::find(p.data_columns.begin(), p.data_columns.end(), p.predictors[j]);
-    if (it == p.data_columns.end()) {
-      *error = "predictor '" + p.predictors[j] + "' is not a data column";
-      return false;
-    }
-    data->predictors.col(j) = p.table.col(it - p.data_columns.begin());
-  }
-  return EvaluateColumnExpression(p.response, p.data_columns, p.table, &data->response, error);
-}
-
 struct Run {
   std::string problem;
   std::string difficulty;
@@ -132,7 +116,7 @@ Run FitFromStart(const NistProblem& p, int start_number) {
   if (!model) return run;
   Problem problem;
   problem.model = model.get();
-  if (!BuildDataset(p, &problem.data, &run.setup_error)) return run;
+  if (!BuildNistDataset(p, &problem.data, &run.setup_error)) return run;
   if (!problem.Validate(&run.setup_error)) return run;
   run.is_set_up = true;
 
@@ -258,7 +242,7 @@ TEST_CASE("NIST StRD: the expression model reproduces the certified RSS at the c
     CHECK(base.ParameterNames() == p.ParameterNames());
     CHECK(base.PredictorNames() == p.predictors);
     Dataset data;
-    const bool is_built = BuildDataset(p, &data, &error);
+    const bool is_built = BuildNistDataset(p, &data, &error);
     INFO("dataset error: " << error);
     REQUIRE(is_built);
     Eigen::VectorXd values = Eigen::VectorXd::Constant(data.NumPoints(), std::nan(""));
