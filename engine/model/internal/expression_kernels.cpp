@@ -1,6 +1,7 @@
 #include "engine/model/internal/expression_kernels.h"
 
 #include <cmath>
+#include <type_traits>
 
 namespace foothold {
 namespace internal {
@@ -67,6 +68,10 @@ struct DivideOp {
 struct NegateOp {
   double V(double a) const { return -a; }
   double G(double, double) const { return -1.0; }
+};
+struct ReciprocalOp {
+  double V(double a) const { return 1.0 / a; }
+  double G(double, double v) const { return -v * v; }
 };
 struct SquareOp {
   double V(double a) const { return a * a; }
@@ -215,9 +220,13 @@ void UnaryValues(const Op& op, int count, const Operand& a, double* __restrict o
 }
 
 // A one-operand result has the operand's dependencies, so term k reads derivative k.
+// Functions whose slope is their own value (exp) need no scratch array for it.
+template <class Op>
+constexpr bool kSlopeIsValue = std::is_same_v<Op, ExpOp>;
+
 template <class Op>
 void UnaryDerivatives(const Op& op, int count, const Operand& a, const double* v, size_t num_terms,
-                      double* const* out, double* __restrict slope) {
+                      double* const* out, double* __restrict scratch) {
   const double* x = a.value;
   if (num_terms == 1) {
     const double* da = a.derivatives[0];
@@ -226,11 +235,15 @@ void UnaryDerivatives(const Op& op, int count, const Operand& a, const double* v
     return;
   }
   if (num_terms == 0) return;
-  for (int i = 0; i < count; ++i) slope[i] = op.G(x[i], v[i]);
+  const double* g = v;
+  if constexpr (!kSlopeIsValue<Op>) {
+    for (int i = 0; i < count; ++i) scratch[i] = op.G(x[i], v[i]);
+    g = scratch;
+  }
   for (size_t k = 0; k < num_terms; ++k) {
     const double* da = a.derivatives[k];
     double* __restrict o = out[k];
-    for (int i = 0; i < count; ++i) o[i] = slope[i] * da[i];
+    for (int i = 0; i < count; ++i) o[i] = g[i] * da[i];
   }
 }
 
@@ -293,6 +306,7 @@ template <class Visitor>
 bool VisitUnary(const Instruction& instruction, Visitor&& visit) {
   switch (instruction.op) {
     case OpCode::kNegate: visit(NegateOp{}); return true;
+    case OpCode::kReciprocal: visit(ReciprocalOp{}); return true;
     case OpCode::kSquare: visit(SquareOp{}); return true;
     case OpCode::kPowInteger: visit(PowIntegerOp{instruction.integer_exponent}); return true;
     case OpCode::kPowConstant: visit(PowConstantOp{instruction.exponent}); return true;

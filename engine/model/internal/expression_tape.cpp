@@ -117,6 +117,29 @@ class TapeBuilder {
     return true;
   }
 
+  // a*b and a/b with two rewrites for speed when one side is a scalar and the other a
+  // vector: a vector divided by a scalar is multiplied by the scalar's reciprocal (one
+  // division instead of n; the product may differ from the quotient in the last bit), and
+  // a negated vector factor passes its sign to the scalar factor (exact).
+  bool Product(OpCode op, int a, int b, const Node& node, int* slot, std::string* error) {
+    Instruction instruction;
+    if (op == OpCode::kDivide && tape_->slots[a].is_vector && !tape_->slots[b].is_vector) {
+      instruction.op = OpCode::kReciprocal;
+      if (!Emit(instruction, b, -1, node, &b, error)) return false;
+      op = OpCode::kMultiply;
+    }
+    if (op == OpCode::kMultiply) {
+      if (!tape_->slots[a].is_vector) std::swap(a, b);
+      if (!tape_->slots[b].is_vector && IsNegation(a)) {
+        a = tape_->instructions[tape_->slots[a].index].a;
+        instruction.op = OpCode::kNegate;
+        if (!Emit(instruction, b, -1, node, &b, error)) return false;
+      }
+    }
+    instruction.op = op;
+    return Emit(instruction, a, b, node, slot, error);
+  }
+
   // a^b, specialised on a constant exponent: 1 and 0 vanish, 2 squares, 0.5 is sqrt,
   // small integers multiply, other constants use std::pow; a parameter-dependent
   // exponent uses exp(b log a).
@@ -161,6 +184,14 @@ class TapeBuilder {
   }
 
  private:
+  // The negated operand is read by nothing else (the syntax is a tree), so reading past
+  // it leaves the negation dead, and RemoveDeadInstructions drops it.
+  bool IsNegation(int s) const {
+    const Slot& slot = tape_->slots[s];
+    return slot.kind == SlotKind::kComputed &&
+           tape_->instructions[slot.index].op == OpCode::kNegate;
+  }
+
   static int PositionOf(const std::vector<int>& sorted, int value) {
     const auto found = std::lower_bound(sorted.begin(), sorted.end(), value);
     return found != sorted.end() && *found == value ? static_cast<int>(found - sorted.begin()) : -1;
@@ -307,6 +338,7 @@ const char* OpCodeName(OpCode op) {
     case OpCode::kMultiply: return "mul";
     case OpCode::kDivide: return "div";
     case OpCode::kNegate: return "neg";
+    case OpCode::kReciprocal: return "recip";
     case OpCode::kSquare: return "square";
     case OpCode::kPowInteger: return "powi";
     case OpCode::kPowConstant: return "powc";
@@ -396,11 +428,14 @@ bool BuildTape(const SyntaxTree& tree, const std::string& text,
                                                          : FunctionOpCode(node.function);
         ok = builder.Emit(instruction, a, -1, node, &slot_of[i], error);
         break;
+      case NodeKind::kMultiply:
+        ok = builder.Product(OpCode::kMultiply, a, b, node, &slot_of[i], error);
+        break;
+      case NodeKind::kDivide:
+        ok = builder.Product(OpCode::kDivide, a, b, node, &slot_of[i], error);
+        break;
       default:
-        instruction.op = node.kind == NodeKind::kAdd        ? OpCode::kAdd
-                         : node.kind == NodeKind::kSubtract ? OpCode::kSubtract
-                         : node.kind == NodeKind::kMultiply ? OpCode::kMultiply
-                                                            : OpCode::kDivide;
+        instruction.op = node.kind == NodeKind::kAdd ? OpCode::kAdd : OpCode::kSubtract;
         ok = builder.Emit(instruction, a, b, node, &slot_of[i], error);
     }
     if (!ok) return false;

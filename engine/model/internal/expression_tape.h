@@ -22,6 +22,7 @@ enum class OpCode : std::uint8_t {
   kMultiply,
   kDivide,
   kNegate,
+  kReciprocal,   // 1/a, for dividing a vector by a scalar as a product
   kSquare,       // a^2 as a*a
   kPowInteger,   // a^k, small integer k (also negative), by repeated multiplication
   kPowConstant,  // a^c, any other constant c, std::pow
