@@ -353,6 +353,33 @@ TEST_CASE("FamilyModels: values at hand-computed points", "[engine]") {
         Approx(1e6 / e).epsilon(kValueTolerance));
 }
 
+TEST_CASE("FamilyModels: a multi-peak model is the sum of its single peaks", "[engine]") {
+  const Eigen::MatrixXd x = RandomPoints(0, 10, 37);
+  const std::vector<double> peaks = {3, 2, 0.5, -1, 5, 1.5, 2, 8, 0.7, 0.3};
+  const MultiGaussianModel gaussians(3);
+  const MultiLorentzianModel lorentzians(3);
+  Eigen::VectorXd gaussian_sum = Eigen::VectorXd::Constant(x.rows(), peaks[9]);
+  Eigen::VectorXd lorentzian_sum = gaussian_sum;
+  for (int k = 0; k < 3; ++k) {
+    const std::vector<double> single = {peaks[3 * k], peaks[3 * k + 1], peaks[3 * k + 2], 0};
+    gaussian_sum += Values(GaussianModel(), x, single);
+    lorentzian_sum += Values(LorentzianModel(), x, single);
+  }
+  CHECK((Values(gaussians, x, peaks) - gaussian_sum).cwiseAbs().maxCoeff() <= kValueTolerance);
+  CHECK((Values(lorentzians, x, peaks) - lorentzian_sum).cwiseAbs().maxCoeff() <= kValueTolerance);
+  // pseudo_voigt at eta = 0 and 1 is the gaussian and lorentzian of the same FWHM.
+  const double fwhm = 1.5;
+  const double sigma = fwhm / (2 * std::sqrt(2 * kLn2));
+  CHECK((Values(PseudoVoigtModel(), x, {3, 5, fwhm, 0, 0.2}) -
+         Values(GaussianModel(), x, {3, 5, sigma, 0.2}))
+            .cwiseAbs()
+            .maxCoeff() <= kValueTolerance);
+  CHECK((Values(PseudoVoigtModel(), x, {3, 5, fwhm, 1, 0.2}) -
+         Values(LorentzianModel(), x, {3, 5, fwhm / 2, 0.2}))
+            .cwiseAbs()
+            .maxCoeff() <= kValueTolerance);
+}
+
 TEST_CASE("FamilyModels: pseudo_voigt is at half height at center +- fwhm/2 for every eta",
           "[engine]") {
   const PseudoVoigtModel model;
