@@ -59,8 +59,8 @@ struct MultistartOptions {
   int max_starts = 0;
   // Seed of every random stream (Sobol digital shift, jitter). Default 7.
   std::uint64_t seed = 7;
-  // Worker threads, the calling thread included. Default: hardware concurrency (>= 1).
-  // Results do not depend on it. Must be in [1, 256].
+  // Worker threads, the calling thread included; at most round_size are used. Default:
+  // hardware concurrency (>= 1). Results do not depend on it. Must be in [1, 256].
   int num_threads = DefaultNumThreads();
   // Starts per scheduling round. A round's starts depend only on the results of earlier
   // rounds, so the summary depends on this but not on num_threads. Default 8. In [1, 4096].
@@ -100,7 +100,8 @@ struct MultistartOptions {
 
   MultistartProgressCallback progress;
   // Cancellation from another thread: the run stops when *cancel_flag becomes true or
-  // is_cancelled() returns true. Checked between local iterations and between starts.
+  // is_cancelled() returns true. Checked between local iterations and between starts, from
+  // the worker threads concurrently: is_cancelled must be thread-safe.
   const std::atomic<bool>* cancel_flag = nullptr;
   std::function<bool()> is_cancelled;
 

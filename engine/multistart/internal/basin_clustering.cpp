@@ -7,6 +7,24 @@
 
 namespace foothold {
 namespace internal {
+namespace {
+
+// Members of equal length, sort_position inside a member, indices inside the vector.
+[[maybe_unused]] bool SymmetryFits(const PermutationSymmetry& symmetry,
+                                   Eigen::Index num_parameters) {
+  for (const std::vector<int>& member : symmetry.members) {
+    if (member.size() != symmetry.members.front().size()) return false;
+    if (symmetry.sort_position < 0 || symmetry.sort_position >= static_cast<int>(member.size())) {
+      return false;
+    }
+    for (int index : member) {
+      if (index < 0 || index >= num_parameters) return false;
+    }
+  }
+  return true;
+}
+
+}  // namespace
 
 Eigen::VectorXd Canonicalize(const Eigen::VectorXd& params,
                              const std::vector<PermutationSymmetry>& symmetries) {
@@ -14,6 +32,8 @@ Eigen::VectorXd Canonicalize(const Eigen::VectorXd& params,
   for (const PermutationSymmetry& symmetry : symmetries) {
     const int num_members = static_cast<int>(symmetry.members.size());
     if (num_members < 2) continue;
+    // A symmetry that names parameters the model does not have is a broken invariant.
+    assert(SymmetryFits(symmetry, params.size()));
     const Eigen::VectorXd current = canonical;
     std::vector<int> order(num_members);
     std::iota(order.begin(), order.end(), 0);
@@ -68,9 +88,15 @@ std::vector<Cluster> ClusterEndPoints(
   });
   std::vector<Cluster> clusters;
   std::vector<Eigen::VectorXd> errors;
+  std::vector<double> leader_rss;  // increasing, since points arrive in increasing rss
   for (int position : order) {
+    // Points arrive in increasing rss, so a leader can match only if its rss is at least
+    // rss - (cost_relative * rss + cost_absolute); earlier leaders are skipped by bisection.
+    const double rss = points[position].rss;
+    const double lowest = rss - (tolerances.cost_relative * rss + tolerances.cost_absolute);
+    size_t c = std::lower_bound(leader_rss.begin(), leader_rss.end(), lowest) - leader_rss.begin();
     bool joined = false;
-    for (size_t c = 0; c < clusters.size() && !joined; ++c) {
+    for (; c < clusters.size() && !joined; ++c) {
       if (SameBasin(points[clusters[c].leader], errors[c], points[position], tolerances)) {
         clusters[c].members.push_back(position);
         joined = true;
@@ -79,6 +105,7 @@ std::vector<Cluster> ClusterEndPoints(
     if (joined) continue;
     clusters.push_back(Cluster{position, {position}});
     errors.push_back(leader_errors(position));
+    leader_rss.push_back(rss);
   }
   return clusters;
 }

@@ -42,7 +42,7 @@ MultistartRun::MultistartRun(const Problem& problem, const std::vector<StartCand
       box_(ResolveBox(problem, candidates, box)),
       symmetries_(problem.model->Symmetries()),
       sobol_(std::max(1, problem.NumFree())),
-      pool_(options.num_threads) {
+      pool_(std::min(options.num_threads, options.round_size)) {
   RandomStream shift_stream(options.seed, kShiftStream);
   for (int d = 0; d < sobol_.Dimension(); ++d) {
     sobol_shift_.push_back(static_cast<std::uint32_t>(shift_stream.NextBits() >> 32));
@@ -175,7 +175,12 @@ void MultistartRun::UpdateBasins() {
     StartRecord& record = summary_.starts[r];
     record.basin = -1;
     if (!record.converged) continue;
-    points.push_back({record.index, record.rss, Canonicalize(record.end, symmetries_)});
+    auto canonical = canonical_by_start_.find(record.index);
+    if (canonical == canonical_by_start_.end()) {
+      canonical =
+          canonical_by_start_.emplace(record.index, Canonicalize(record.end, symmetries_)).first;
+    }
+    points.push_back({record.index, record.rss, canonical->second});
     record_of_point.push_back(static_cast<int>(r));
   }
   BasinTolerances tolerances;

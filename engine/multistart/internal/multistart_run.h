@@ -80,6 +80,8 @@ class MultistartRun {
 
   // Standard errors at each basin representative, by start index, computed once.
   std::map<int, std::pair<Eigen::VectorXd, bool>> errors_by_start_;
+  // Canonical end point of every converged start, by start index, computed once.
+  std::map<int, Eigen::VectorXd> canonical_by_start_;
   MultistartSummary summary_;
 };
 
