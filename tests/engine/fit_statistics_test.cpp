@@ -1,7 +1,11 @@
 #include "engine/stats/fit_statistics.h"
 
+#include <unistd.h>
+
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <cstdio>
+#include <filesystem>
 #include <fstream>
 #include <functional>
 #include <memory>
@@ -18,6 +22,9 @@ constexpr double kClosedFormTolerance = 1e-10;
 // NIST certifies 11 digits and software studies accept LRE >= 4. At the certified values
 // we measure 10.3 to 12.7 digits for the standard deviations, so we hold 8.
 constexpr double kMinCertifiedLre = 8;
+// scipy's covariance comes from its own QR of the same analytic Jacobian at its optimum;
+// we measure agreement better than 1e-12 relative.
+constexpr double kScipyTolerance = 1e-10;
 
 using Values = std::function<double(double x, const double* b)>;
 using Gradient = std::function<void(double x, const double* b, double* g)>;
@@ -286,6 +293,92 @@ TEST_CASE("FitStatistics: NIST StRD certified standard deviations at the certifi
       CHECK(Lre(stats.standard_errors[j], nist.certified_sd[j]) >= kMinCertifiedLre);
     }
   }
+}
+
+// Reference: Debian python3-scipy, scipy.optimize.curve_fit (MINPACK lmder) with
+// absolute_sigma=True and False, and scipy.stats.t.ppf. Fails, never skips, when
+// /usr/bin/python3 cannot import scipy.
+constexpr const char* kScipyScript = R"(
+import sys
+import numpy as np
+from scipy import stats
+from scipy.optimize import curve_fit
+d = np.loadtxt(sys.argv[1], delimiter=',')
+x, y, s = d[:, 0], d[:, 1], d[:, 2]
+def f(x, a, tau, b):
+    return a * np.exp(-x / tau) + b
+def jac(x, a, tau, b):
+    e = np.exp(-x / tau)
+    return np.column_stack([e, a * x * e / tau**2, np.ones_like(x)])
+for absolute in (True, False):
+    p, c = curve_fit(f, x, y, p0=[4, 2, 0.5], sigma=s, absolute_sigma=absolute, jac=jac,
+                     method='lm', ftol=1e-15, xtol=1e-15, gtol=1e-15, maxfev=10000)
+    se = np.sqrt(np.diag(c))
+    print(*[repr(v) for v in list(p) + list(se) + [c[0, 1] / (se[0] * se[1])]])
+print(repr(stats.t.ppf(0.975, len(x) - 3)))
+)";
+
+TEST_CASE("FitStatistics: weighted covariance matches scipy curve_fit in both sigma modes",
+          "[engine]") {
+  const HandModel model(
+      {"amplitude", "tau", "baseline"},
+      [](double x, const double* b) { return b[0] * std::exp(-x / b[1]) + b[2]; },
+      [](double x, const double* b, double* g) {
+        const double e = std::exp(-x / b[1]);
+        g[0] = e;
+        g[1] = b[0] * x * e / (b[1] * b[1]);
+        g[2] = 1;
+      });
+  // Deterministic data: 5 exp(-x/2.5) + 0.4 plus a fixed oscillating error of about sigma.
+  std::vector<double> x, y, sigma;
+  for (int i = 0; i < 30; ++i) {
+    x.push_back(0.25 * i);
+    const double truth = 5 * std::exp(-x.back() / 2.5) + 0.4;
+    sigma.push_back(0.05 + 0.02 * truth);
+    y.push_back(truth + 1.5 * sigma.back() * std::sin(7.3 * i + 0.5));
+  }
+  const std::filesystem::path dir = std::filesystem::temp_directory_path();
+  const std::string tag = std::to_string(static_cast<long>(::getpid()));
+  const std::filesystem::path data_path = dir / ("foothold_stats_" + tag + ".csv");
+  const std::filesystem::path script_path = dir / ("foothold_stats_" + tag + ".py");
+  {
+    std::ofstream data(data_path);
+    data.precision(17);
+    for (size_t i = 0; i < x.size(); ++i) data << x[i] << ',' << y[i] << ',' << sigma[i] << '\n';
+    std::ofstream(script_path) << kScipyScript;
+  }
+  const std::string command =
+      "/usr/bin/python3 " + script_path.string() + " " + data_path.string() + " 2>&1";
+  std::string output;
+  FILE* pipe = ::popen(command.c_str(), "r");
+  REQUIRE(pipe != nullptr);
+  char buffer[512];
+  while (std::fgets(buffer, sizeof buffer, pipe) != nullptr) output += buffer;
+  const int status = ::pclose(pipe);
+  std::filesystem::remove(data_path);
+  std::filesystem::remove(script_path);
+  INFO("scipy output: " << output);
+  REQUIRE(status == 0);
+
+  std::istringstream lines(output);
+  Problem problem = MakeProblem(model, x, y, sigma);
+  for (SigmaMode mode : {SigmaMode::kAbsolute, SigmaMode::kRelative}) {
+    Eigen::Vector3d params, se;
+    double correlation = 0;
+    REQUIRE(static_cast<bool>(lines >> params[0] >> params[1] >> params[2] >> se[0] >> se[1] >>
+                              se[2] >> correlation));
+    problem.sigma_mode = mode;
+    const FitStatistics stats = ComputeFitStatistics(problem, params);
+    INFO("sigma mode " << ToString(mode));
+    for (int j = 0; j < 3; ++j) {
+      CHECK(stats.standard_errors[j] == Approx(se[j]).epsilon(kScipyTolerance));
+    }
+    CHECK(stats.correlation(0, 1) == Approx(correlation).epsilon(kScipyTolerance));
+  }
+  double t_ppf = 0;
+  REQUIRE(static_cast<bool>(lines >> t_ppf));
+  CHECK(ComputeFitStatistics(problem, Eigen::Vector3d(5, 2.5, 0.4)).t_quantile ==
+        Approx(t_ppf).epsilon(1e-12));
 }
 
 TEST_CASE("FitStatistics: absolute sigma uses scale 1 and the normal quantile", "[engine]") {
