@@ -18,6 +18,9 @@ constexpr double kTruthAmplitude = 2.0;
 constexpr double kTruthFrequency = 1.3;
 constexpr double kTwoPi = 6.283185307179586;
 
+// Equal values, or both NaN (a failed start's rss, an unidentifiable standard error).
+bool SameDouble(double u, double v) { return (std::isnan(u) && std::isnan(v)) || u == v; }
+
 // Every field of the summaries but the timings (and the thread count, which is the point).
 void RequireSameSummary(const MultistartSummary& a, const MultistartSummary& b) {
   REQUIRE(a.stop == b.stop);
@@ -31,6 +34,9 @@ void RequireSameSummary(const MultistartSummary& a, const MultistartSummary& b) 
   REQUIRE(a.best_basin_single_start == b.best_basin_single_start);
   REQUIRE(a.rule_num_searches == b.rule_num_searches);
   REQUIRE(a.rule_num_basins == b.rule_num_basins);
+  REQUIRE(SameDouble(a.expected_unseen_basins, b.expected_unseen_basins));
+  REQUIRE(SameDouble(a.best_gap_chi2, b.best_gap_chi2));
+  REQUIRE(a.message == b.message);
   REQUIRE(a.starts.size() == b.starts.size());
   for (size_t i = 0; i < a.starts.size(); ++i) {
     const StartRecord& x = a.starts[i];
@@ -40,7 +46,9 @@ void RequireSameSummary(const MultistartSummary& a, const MultistartSummary& b) 
     REQUIRE(x.origin == y.origin);
     REQUIRE(x.start == y.start);
     REQUIRE(x.end == y.end);
-    REQUIRE(x.rss == y.rss);
+    REQUIRE(SameDouble(x.rss, y.rss));
+    REQUIRE(SameDouble(x.initial_rss, y.initial_rss));
+    REQUIRE(x.message == y.message);
     REQUIRE(x.termination == y.termination);
     REQUIRE(x.num_iterations == y.num_iterations);
     REQUIRE(x.num_evaluations == y.num_evaluations);
@@ -53,11 +61,9 @@ void RequireSameSummary(const MultistartSummary& a, const MultistartSummary& b) 
     REQUIRE(a.basins[i].num_starts == b.basins[i].num_starts);
     REQUIRE(a.basins[i].representative_start == b.basins[i].representative_start);
     REQUIRE(a.basins[i].parameters == b.basins[i].parameters);
-    // NaN entries (unidentifiable) compare unequal to themselves: compare bit patterns.
     REQUIRE(a.basins[i].standard_errors.size() == b.basins[i].standard_errors.size());
     for (Eigen::Index j = 0; j < a.basins[i].standard_errors.size(); ++j) {
-      const double u = a.basins[i].standard_errors[j], v = b.basins[i].standard_errors[j];
-      REQUIRE(((std::isnan(u) && std::isnan(v)) || u == v));
+      REQUIRE(SameDouble(a.basins[i].standard_errors[j], b.basins[i].standard_errors[j]));
     }
   }
 }
@@ -129,6 +135,59 @@ TEST_CASE("Multistart: one-basin decay and a three-peak sum are thread-count ind
       RunWithThreads(peaks_problem, peaks_candidates, peaks_box, 1, 48);
   RequireSameSummary(peaks_one, RunWithThreads(peaks_problem, peaks_candidates, peaks_box, 2, 48));
   RequireSameSummary(peaks_one, RunWithThreads(peaks_problem, peaks_candidates, peaks_box, 8, 48));
+}
+
+TEST_CASE("Multistart: failed starts, odd rounds and log scales are thread-count independent",
+          "[engine]") {
+  // Five candidates across rounds of 3, a model undefined on part of the box and a
+  // log-scaled rate: every path of the schedule under three thread counts.
+  const testing::PointwiseModel line = testing::PartlyUndefinedLineModel();
+  const Problem line_problem = MakeProblem(
+      line, [](double x) { return 1.0 + 2.0 * x; }, 30, 0.0, 0.1, 0.01);
+  SearchBox line_box;
+  line_box.lower = Vec({0.0, -5.0});
+  line_box.upper = Vec({10.0, 5.0});
+  std::vector<StartCandidate> line_candidates;
+  for (int c = 0; c < 5; ++c) {
+    line_candidates.push_back({"guess:c" + std::to_string(c), Vec({1.5 * c, 1.0})});
+  }
+  MultistartOptions options;
+  options.round_size = 3;
+  options.max_starts = 25;
+  options.num_threads = 1;
+  const MultistartSummary one = RunMultistart(line_problem, line_candidates, line_box, options);
+  INFO(one.FullReport());
+  REQUIRE(one.num_non_finite > 0);
+  for (int threads : {2, 8}) {
+    options.num_threads = threads;
+    RequireSameSummary(one, RunMultistart(line_problem, line_candidates, line_box, options));
+  }
+
+  const testing::PointwiseModel decay = testing::ExpDecayModel();
+  const Problem decay_problem = MakeProblem(
+      decay, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
+  SearchBox log_box;
+  log_box.lower = Vec({0.1, 1e-3});
+  log_box.upper = Vec({10.0, 1e3});
+  options = MultistartOptions();
+  options.round_size = 5;
+  options.max_starts = 30;
+  options.use_stopping_rule = false;
+  options.num_threads = 1;
+  const std::vector<StartCandidate> user = {{"user", Vec({1.0, 0.1})}};
+  const MultistartSummary log_one = RunMultistart(decay_problem, user, log_box, options);
+  for (int threads : {2, 8}) {
+    options.num_threads = threads;
+    RequireSameSummary(log_one, RunMultistart(decay_problem, user, log_box, options));
+  }
+  // The rate spans six decades: Sobol starts cover them evenly in log(rate).
+  int below_one = 0, sobol = 0;
+  for (const StartRecord& record : log_one.starts) {
+    if (record.origin != "sobol") continue;
+    ++sobol;
+    if (record.start[1] < 1.0) ++below_one;
+  }
+  CHECK(std::abs(below_one - sobol / 2) <= 2);
 }
 
 TEST_CASE("Multistart: a different seed moves the quasi-random starts", "[engine]") {
