@@ -127,4 +127,9 @@ MultistartSummary RunMultistart(const Problem& problem,
   return run.Execute();
 }
 
+MultistartSummary RunMultistart(const Problem& problem, const StartSource& source,
+                                const MultistartOptions& options) {
+  return RunMultistart(problem, source.Candidates(problem), source.Box(problem), options);
+}
+
 }  // namespace foothold

@@ -16,6 +16,7 @@
 
 #include "engine/multistart/multistart_options.h"
 #include "engine/multistart/multistart_summary.h"
+#include "engine/multistart/start_source.h"
 #include "engine/solve/problem.h"
 
 namespace foothold {
@@ -35,6 +36,10 @@ bool ValidateMultistartInput(const Problem& problem, const std::vector<StartCand
 // use Model::Clone().
 MultistartSummary RunMultistart(const Problem& problem,
                                 const std::vector<StartCandidate>& candidates, const SearchBox& box,
+                                const MultistartOptions& options);
+
+// The same with the candidates and box asked from `source` (called once each).
+MultistartSummary RunMultistart(const Problem& problem, const StartSource& source,
                                 const MultistartOptions& options);
 
 }  // namespace foothold

@@ -163,3 +163,39 @@ TEST_CASE("Multistart: candidates are clamped into the bounds, derived boxes are
 
 }  // namespace
 }  // namespace foothold
+
+namespace foothold {
+namespace {
+
+// A start source as the heuristics layer would write one: two named guesses and a box.
+class TwoGuesses : public StartSource {
+ public:
+  std::vector<StartCandidate> Candidates(const Problem& problem) const override {
+    return {{"guess:ends", testing::Vec({0.5, 1.5})}, {"guess:slope", testing::Vec({1.2, 2.5})}};
+  }
+  SearchBox Box(const Problem& problem) const override {
+    SearchBox box;
+    box.lower = testing::Vec({-1.0, -1.0});
+    box.upper = testing::Vec({2.0, 4.0});
+    return box;
+  }
+};
+
+TEST_CASE("Multistart: a StartSource supplies the candidates and the box", "[engine]") {
+  LineCase line;
+  MultistartOptions options;
+  options.max_starts = 10;
+  const MultistartSummary summary = RunMultistart(line.problem, TwoGuesses(), options);
+  REQUIRE(summary.num_starts_run == 10);
+  CHECK(summary.starts[0].origin == "guess:ends");
+  CHECK(summary.starts[1].origin == "guess:slope");
+  for (size_t i = 2; i < summary.starts.size(); ++i) {
+    CHECK(summary.starts[i].start[0] >= -1.0);
+    CHECK(summary.starts[i].start[0] <= 2.0);
+    CHECK(summary.starts[i].start[1] >= -1.0);
+    CHECK(summary.starts[i].start[1] <= 4.0);
+  }
+}
+
+}  // namespace
+}  // namespace foothold
