@@ -190,7 +190,8 @@ std::vector<NistCase> NistCases() {
        5.1304802941E+02,
        3.1717133040E+00,
        51});
-  // Bennett5 is of NIST's higher difficulty: its Jacobian columns are nearly collinear.
+  // Bennett5 is of NIST's higher difficulty: the column-scaled Jacobian has condition
+  // number 5.7e4 and corr(b1, b2) = -0.99995 at the certified values (measured).
   cases.push_back(
       {"Bennett5",
        HandModel(
@@ -296,7 +297,8 @@ TEST_CASE("FitStatistics: NIST StRD certified standard deviations at the certifi
 }
 
 // Reference: Debian python3-scipy, scipy.optimize.curve_fit (MINPACK lmder) with
-// absolute_sigma=True and False, and scipy.stats.t.ppf. Fails, never skips, when
+// absolute_sigma=True and False, scipy.stats.t.ppf, and numpy (linalg.cond, R2 and
+// Durbin-Watson written out) at scipy's optimum. Fails, never skips, when
 // /usr/bin/python3 cannot import scipy.
 constexpr const char* kScipyScript = R"(
 import sys
@@ -316,10 +318,18 @@ for absolute in (True, False):
     se = np.sqrt(np.diag(c))
     print(*[repr(v) for v in list(p) + list(se) + [c[0, 1] / (se[0] * se[1])]])
 print(repr(stats.t.ppf(0.975, len(x) - 3)))
+# At the last optimum: condition number of the column-scaled weighted Jacobian, weighted R2
+# about the weighted mean, Durbin-Watson of the weighted residuals (x is increasing).
+jw = jac(x, *p) / s[:, None]
+r = (f(x, *p) - y) / s
+w = 1 / s**2
+ybar = np.sum(w * y) / np.sum(w)
+print(repr(np.linalg.cond(jw / np.linalg.norm(jw, axis=0))),
+      repr(1 - np.sum(r**2) / np.sum(w * (y - ybar)**2)),
+      repr(np.sum(np.diff(r)**2) / np.sum(r**2)))
 )";
 
-TEST_CASE("FitStatistics: weighted covariance matches scipy curve_fit in both sigma modes",
-          "[engine]") {
+TEST_CASE("FitStatistics: weighted fit statistics match scipy curve_fit and numpy", "[engine]") {
   const HandModel model(
       {"amplitude", "tau", "baseline"},
       [](double x, const double* b) { return b[0] * std::exp(-x / b[1]) + b[2]; },
@@ -362,6 +372,7 @@ TEST_CASE("FitStatistics: weighted covariance matches scipy curve_fit in both si
 
   std::istringstream lines(output);
   Problem problem = MakeProblem(model, x, y, sigma);
+  FitStatistics last;
   for (SigmaMode mode : {SigmaMode::kAbsolute, SigmaMode::kRelative}) {
     Eigen::Vector3d params, se;
     double correlation = 0;
@@ -369,16 +380,19 @@ TEST_CASE("FitStatistics: weighted covariance matches scipy curve_fit in both si
                               se[2] >> correlation));
     problem.sigma_mode = mode;
     const FitStatistics stats = ComputeFitStatistics(problem, params);
+    last = stats;
     INFO("sigma mode " << ToString(mode));
     for (int j = 0; j < 3; ++j) {
       CHECK(stats.standard_errors[j] == Approx(se[j]).epsilon(kScipyTolerance));
     }
     CHECK(stats.correlation(0, 1) == Approx(correlation).epsilon(kScipyTolerance));
   }
-  double t_ppf = 0;
-  REQUIRE(static_cast<bool>(lines >> t_ppf));
-  CHECK(ComputeFitStatistics(problem, Eigen::Vector3d(5, 2.5, 0.4)).t_quantile ==
-        Approx(t_ppf).epsilon(1e-12));
+  double t_ppf = 0, condition_number = 0, r2 = 0, durbin_watson = 0;
+  REQUIRE(static_cast<bool>(lines >> t_ppf >> condition_number >> r2 >> durbin_watson));
+  CHECK(last.t_quantile == Approx(t_ppf).epsilon(kScipyTolerance));
+  CHECK(last.condition_number == Approx(condition_number).epsilon(kScipyTolerance));
+  CHECK(last.r2 == Approx(r2).epsilon(kScipyTolerance));
+  CHECK(last.durbin_watson == Approx(durbin_watson).epsilon(kScipyTolerance));
 }
 
 TEST_CASE("FitStatistics: absolute sigma uses scale 1 and the normal quantile", "[engine]") {
