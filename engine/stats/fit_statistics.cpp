@@ -1,5 +1,6 @@
 #include "engine/stats/fit_statistics.h"
 
+#include <algorithm>
 #include <cmath>
 #include <cstdio>
 #include <cstdlib>
@@ -152,8 +153,47 @@ std::string DescribeUnidentifiable(const Problem& problem, const FitStatistics& 
   return text.str();
 }
 
-// Covariance, correlation, standard errors and intervals from the SVD of the weighted
-// Jacobian of the free parameters.
+// Writes covariance, correlation, standard errors and intervals over all p parameters.
+// Fixed parameters keep zero rows, zero standard errors and the interval [v, v].
+void FillParameterUncertainty(const internal::SvdCovariance& svd,
+                              const std::vector<int>& free_index, const Eigen::VectorXd& params,
+                              FitStatistics* stats) {
+  const Eigen::Index p = params.size();
+  const int m = static_cast<int>(free_index.size());
+  stats->covariance = Eigen::MatrixXd::Zero(p, p);
+  stats->correlation = Eigen::MatrixXd::Zero(p, p);
+  stats->standard_errors = Eigen::VectorXd::Zero(p);
+  stats->ci_low = params;
+  stats->ci_high = params;
+  for (int c = 0; c < m; ++c) {
+    if (svd.is_unidentifiable[c]) stats->unidentifiable.push_back(free_index[c]);
+  }
+  for (int c = 0; c < m; ++c) {
+    const int a = free_index[c];
+    for (int d = 0; d < m; ++d) {
+      const int b = free_index[d];
+      const bool is_defined = !svd.is_unidentifiable[c] && !svd.is_unidentifiable[d];
+      const double unscaled = svd.covariance(c, d);
+      stats->covariance(a, b) = is_defined ? stats->covariance_scale * unscaled : kNaN;
+      if (!is_defined) {
+        stats->correlation(a, b) = kNaN;
+      } else if (c == d) {
+        stats->correlation(a, b) = 1;
+      } else {
+        // Clamped: rounding can push a near-perfect correlation just past +-1.
+        const double r = unscaled / std::sqrt(svd.covariance(c, c) * svd.covariance(d, d));
+        stats->correlation(a, b) = std::clamp(r, -1.0, 1.0);
+      }
+    }
+    const double se = std::sqrt(stats->covariance(a, a));
+    stats->standard_errors[a] = se;
+    stats->ci_low[a] = params[a] - stats->t_quantile * se;
+    stats->ci_high[a] = params[a] + stats->t_quantile * se;
+  }
+}
+
+// Rank, conditioning, covariance scale and interval quantile from the SVD of the weighted
+// Jacobian of the free parameters; then the per-parameter quantities.
 void ComputeUncertainty(const Problem& problem, const Eigen::VectorXd& params,
                         const Eigen::MatrixXd& jacobian, const Eigen::VectorXd& inverse_sigma,
                         const StatisticsOptions& options, FitStatistics* stats) {
@@ -184,34 +224,10 @@ void ComputeUncertainty(const Problem& problem, const Eigen::VectorXd& params,
   }
   stats->t_quantile = IntervalQuantile(is_absolute, stats->dof, options.confidence_level);
 
-  // Fixed parameters keep zero rows, zero standard errors and the interval [v, v].
-  stats->covariance = Eigen::MatrixXd::Zero(p, p);
-  stats->correlation = Eigen::MatrixXd::Zero(p, p);
-  stats->standard_errors = Eigen::VectorXd::Zero(p);
-  stats->ci_low = params;
-  stats->ci_high = params;
-  for (int c = 0; c < m; ++c) {
-    if (svd.is_unidentifiable[c]) stats->unidentifiable.push_back(free_index[c]);
-  }
-  for (int c = 0; c < m; ++c) {
-    const int a = free_index[c];
-    for (int d = 0; d < m; ++d) {
-      const int b = free_index[d];
-      const bool is_defined = !svd.is_unidentifiable[c] && !svd.is_unidentifiable[d];
-      const double unscaled = svd.covariance(c, d);
-      stats->covariance(a, b) = is_defined ? stats->covariance_scale * unscaled : kNaN;
-      stats->correlation(a, b) =
-          !is_defined ? kNaN
-          : c == d    ? 1.0
-                      : unscaled / std::sqrt(svd.covariance(c, c) * svd.covariance(d, d));
-    }
-    const double se = std::sqrt(stats->covariance(a, a));
-    stats->standard_errors[a] = se;
-    stats->ci_low[a] = params[a] - stats->t_quantile * se;
-    stats->ci_high[a] = params[a] + stats->t_quantile * se;
-  }
-  if (stats->is_rank_deficient)
+  FillParameterUncertainty(svd, free_index, params, stats);
+  if (stats->is_rank_deficient) {
     AppendNote(DescribeUnidentifiable(problem, *stats), &stats->message);
+  }
 }
 
 }  // namespace
