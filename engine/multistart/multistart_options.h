@@ -93,7 +93,8 @@ struct MultistartOptions {
   double ambiguity_chi2_gap = 1.0;
 
   // Options of every local fit. Its callback, when set, is called as well as the driver's
-  // own cancellation check; its deadline is shortened to what remains of deadline_seconds.
+  // own cancellation check (from the worker threads concurrently, so it must be
+  // thread-safe); its deadline is shortened to what remains of deadline_seconds.
   LevenbergMarquardtOptions local;
   // Options of the statistics at each basin's representative point (standard errors).
   StatisticsOptions statistics;

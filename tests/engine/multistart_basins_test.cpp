@@ -40,6 +40,7 @@ struct PeaksCase {
   SearchBox box;
   explicit PeaksCase(bool symmetric) : model(testing::GaussianPeaksModel(3, symmetric)) {
     problem = MakeProblem(model, ThreePeaks, 120, 0.0, 0.085, 0.02);
+    testing::BoundPeakWidths(3, &problem);
     const int identity[3] = {0, 1, 2}, reversed[3] = {2, 1, 0}, rotated[3] = {1, 2, 0};
     candidates = {{"guess:a", PermutedTruth(identity, 0.05)},
                   {"guess:b", PermutedTruth(reversed, -0.04)},
@@ -98,6 +99,8 @@ TEST_CASE("Multistart: permuted optima of three identical peaks form one basin",
   CHECK(best.standard_errors.allFinite());
   CHECK(best.standard_errors.minCoeff() > 0);
   CHECK_FALSE(summary.best_basin_single_start);
+  // Permuted copies are merged, so nothing else comes close to the best fit.
+  CHECK_FALSE(summary.ambiguous_basins);
 }
 
 TEST_CASE("Multistart: without the symmetry the same optima are three basins", "[engine]") {

@@ -118,7 +118,7 @@ TEST_CASE("Multistart: one-basin decay and a three-peak sum are thread-count ind
   RequireSameSummary(one, RunWithThreads(decay_problem, decay_candidates, decay_box, 8, 0));
 
   const testing::PointwiseModel peaks = testing::GaussianPeaksModel(3, true);
-  const Problem peaks_problem = MakeProblem(
+  Problem peaks_problem = MakeProblem(
       peaks,
       [](double x) {
         return 3 * std::exp(-0.5 * std::pow((x - 2) / 0.5, 2)) +
@@ -126,6 +126,7 @@ TEST_CASE("Multistart: one-basin decay and a three-peak sum are thread-count ind
                4 * std::exp(-0.5 * std::pow((x - 8) / 0.4, 2));
       },
       120, 0.0, 0.085, 0.02);
+  testing::BoundPeakWidths(3, &peaks_problem);
   SearchBox peaks_box;
   peaks_box.lower = Vec({0.1, 0.0, 0.1, 0.1, 0.0, 0.1, 0.1, 0.0, 0.1});
   peaks_box.upper = Vec({6.0, 10.0, 2.0, 6.0, 10.0, 2.0, 6.0, 10.0, 2.0});

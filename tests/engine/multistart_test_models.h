@@ -115,6 +115,14 @@ inline PointwiseModel GaussianPeaksModel(int num_peaks, bool symmetric) {
       symmetries);
 }
 
+// Bounds for GaussianPeaksModel: widths > 0 (the model depends on sigma^2 only, so without
+// this bound -sigma would be a second, undeclared copy of every optimum).
+inline void BoundPeakWidths(int num_peaks, Problem* problem) {
+  problem->lower = Eigen::VectorXd::Constant(3 * num_peaks, -INFINITY);
+  problem->upper = Eigen::VectorXd::Constant(3 * num_peaks, INFINITY);
+  for (int k = 0; k < num_peaks; ++k) problem->lower[3 * k + 2] = 1e-3;
+}
+
 // intercept + slope * x, but not finite (NaN) whenever intercept > 5: starts there fail.
 inline PointwiseModel PartlyUndefinedLineModel() {
   return PointwiseModel(
