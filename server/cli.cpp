@@ -91,8 +91,8 @@ int RunCli(const std::vector<std::string>& args, std::ostream& out, std::ostream
   }
   if (command == "fit") return RunFitCommand(rest, out, err);
   if (command == "families") return RunFamilies(rest, out, err);
-  return BadInput("unknown command '" + command + "' (commands: fit, families; see foothold --help)",
-                  err);
+  return BadInput(
+      "unknown command '" + command + "' (commands: fit, families; see foothold --help)", err);
 }
 
 }  // namespace foothold

@@ -142,8 +142,8 @@ bool ParseCsv(const std::string& text, CsvDocument* out, std::string* error) {
           return false;
         }
         if (!seen.insert(fields[j]).second) {
-          *error = "row " + std::to_string(row) + ": the header names column '" + fields[j] +
-                   "' twice";
+          *error =
+              "row " + std::to_string(row) + ": the header names column '" + fields[j] + "' twice";
           return false;
         }
       }

@@ -56,12 +56,14 @@ bool LoadDataFile(const std::string& path, DataTable* out, std::string* error) {
       *error = path + ": " + detail;
       return false;
     }
+    out->SetSourceName(path);
     return true;
   }
   if (!DataTableFromCsv(text, out, &detail)) {
     *error = path + ": " + detail;
     return false;
   }
+  out->SetSourceName(path);
   return true;
 }
 

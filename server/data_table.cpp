@@ -4,8 +4,7 @@
 
 namespace foothold {
 
-bool DataTable::AddColumn(const std::string& name, std::vector<double> values,
-                          std::string* error) {
+bool DataTable::AddColumn(const std::string& name, std::vector<double> values, std::string* error) {
   if (name.empty()) {
     *error = "a column has an empty name";
     return false;
@@ -15,8 +14,8 @@ bool DataTable::AddColumn(const std::string& name, std::vector<double> values,
     return false;
   }
   if (!columns_.empty() && values.size() != columns_[0].size()) {
-    *error = "column '" + name + "' has " + std::to_string(values.size()) +
-             " values but column '" + names_[0] + "' has " + std::to_string(columns_[0].size());
+    *error = "column '" + name + "' has " + std::to_string(values.size()) + " values but column '" +
+             names_[0] + "' has " + std::to_string(columns_[0].size());
     return false;
   }
   names_.push_back(name);
@@ -50,10 +49,11 @@ std::string DataTable::ListColumnNames() const {
 
 std::string DataTable::DescribeCell(int column, int row_index) const {
   const std::string& name = names_[column];
+  const std::string prefix = source_name_.empty() ? "" : source_name_ + ": ";
   if (!source_rows_.empty()) {
-    return "row " + std::to_string(source_rows_[row_index]) + ", column '" + name + "'";
+    return prefix + "row " + std::to_string(source_rows_[row_index]) + ", column '" + name + "'";
   }
-  return "data." + name + "[" + std::to_string(row_index) + "]";
+  return prefix + "data." + name + "[" + std::to_string(row_index) + "]";
 }
 
 bool DataTableFromCsv(const std::string& text, DataTable* out, std::string* error) {

@@ -31,11 +31,14 @@ class DataTable {
   std::string DescribeCell(int column, int row_index) const;
   // Records the CSV row number of each data row, switching DescribeCell to CSV wording.
   void SetSourceRows(std::vector<int> rows) { source_rows_ = std::move(rows); }
+  // Names the file the rows came from; DescribeCell then starts with "PATH: ".
+  void SetSourceName(std::string name) { source_name_ = std::move(name); }
 
  private:
   std::vector<std::string> names_;
   std::vector<std::vector<double>> columns_;
   std::vector<int> source_rows_;  // empty unless read from CSV
+  std::string source_name_;       // file path, or empty
 };
 
 // Builds a table from CSV text with a header row (see csv_reader.h). Every cell must be a

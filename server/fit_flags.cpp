@@ -16,11 +16,28 @@ namespace {
 constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
 const std::set<std::string>& ValueFlags() {
-  static const std::set<std::string> kFlags{
-      "--family", "--degree",  "--peaks",   "--expr",   "--params",     "--start",
-      "--fix",    "--bounds",  "--y",       "--sigma-column", "--sigma", "--request",
-      "--label",  "--loss",    "--loss-scale", "--method", "--starts", "--seed",
-      "--threads", "--deadline", "--max-iterations", "--max-evaluations"};
+  static const std::set<std::string> kFlags{"--family",
+                                            "--degree",
+                                            "--peaks",
+                                            "--expr",
+                                            "--params",
+                                            "--start",
+                                            "--fix",
+                                            "--bounds",
+                                            "--y",
+                                            "--sigma-column",
+                                            "--sigma",
+                                            "--request",
+                                            "--label",
+                                            "--loss",
+                                            "--loss-scale",
+                                            "--method",
+                                            "--starts",
+                                            "--seed",
+                                            "--threads",
+                                            "--deadline",
+                                            "--max-iterations",
+                                            "--max-evaluations"};
   return kFlags;
 }
 
@@ -101,8 +118,8 @@ void Merge(std::vector<Entry>* entries, Entry entry) {
   entries->push_back(entry);
 }
 
-bool ParseValues(const std::string& flag, const std::string& text,
-                 std::vector<NamedValue>* entries, std::string* error) {
+bool ParseValues(const std::string& flag, const std::string& text, std::vector<NamedValue>* entries,
+                 std::string* error) {
   for (const std::string& item : SplitList(text)) {
     NamedValue entry;
     std::string value;
@@ -247,8 +264,7 @@ bool ApplyFlag(const std::string& flag, const std::string& value, FitRequest* re
 
 }  // namespace
 
-bool ParseFitArguments(const std::vector<std::string>& args, FitCommand* out,
-                       std::string* error) {
+bool ParseFitArguments(const std::vector<std::string>& args, FitCommand* out, std::string* error) {
   FitCommand command;
   std::vector<std::pair<std::string, std::string>> flags;
   std::string data_path;
@@ -264,7 +280,8 @@ bool ParseFitArguments(const std::vector<std::string>& args, FitCommand* out,
       command.json = true;
       continue;
     }
-    if (arg.size() > 1 && arg[0] == '-' && !(arg.size() > 1 && std::isdigit(static_cast<unsigned char>(arg[1])))) {
+    if (arg.size() > 1 && arg[0] == '-' &&
+        !(arg.size() > 1 && std::isdigit(static_cast<unsigned char>(arg[1])))) {
       std::string flag = arg;
       std::string value;
       const size_t equals = arg.find('=');

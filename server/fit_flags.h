@@ -19,8 +19,7 @@ struct FitCommand {
 // other flags in the order given (a flag overrides the document's field; --start, --fix
 // and --bounds merge by parameter name). Both "--flag value" and "--flag=value" work.
 // False with a message naming the flag on unknown flags, missing values or bad values.
-bool ParseFitArguments(const std::vector<std::string>& args, FitCommand* out,
-                       std::string* error);
+bool ParseFitArguments(const std::vector<std::string>& args, FitCommand* out, std::string* error);
 
 // The help text of `foothold fit`.
 const char* FitUsage();

@@ -19,7 +19,7 @@ struct StartRecord {
   int index = 0;
   std::string origin;  // "user", later "guess:<name>", "sobol", "jitter"
   LocalFitSummary summary;
-  int basin = -1;      // basin id, or -1 when the start did not converge
+  int basin = -1;  // basin id, or -1 when the start did not converge
 };
 
 // A distinct optimum.
@@ -41,16 +41,16 @@ struct Verdict {
 
 struct FitOutcome {
   std::string label;
-  ModelSpec model;                       // as requested (family options or expression)
+  ModelSpec model;  // as requested (family options or expression)
   std::vector<std::string> parameter_names;
   std::vector<bool> is_fixed;
   std::vector<std::string> predictor_names;
-  std::string response;                  // column or expression fitted
-  std::string sigma_column;              // empty when unweighted
+  std::string response;      // column or expression fitted
+  std::string sigma_column;  // empty when unweighted
   SigmaMode sigma_mode = SigmaMode::kAbsolute;
-  LocalFitSummary best;                  // the local fit that reached the best optimum
-  FitStatistics statistics;              // at best.parameters
-  std::vector<Basin> basins;             // best first; empty when nothing converged
+  LocalFitSummary best;       // the local fit that reached the best optimum
+  FitStatistics statistics;   // at best.parameters
+  std::vector<Basin> basins;  // best first; empty when nothing converged
   std::vector<StartRecord> starts;
   Verdict verdict;
   std::uint64_t seed = 0;

@@ -50,8 +50,9 @@ bool ValidateModel(const ModelSpec& model, std::string* error) {
       }
     }
   } else if (!model.parameters.empty()) {
-    *error = "model.parameters: a family names its own parameters; give parameters only "
-             "with an expression";
+    *error =
+        "model.parameters: a family names its own parameters; give parameters only "
+        "with an expression";
     return false;
   }
   return true;
@@ -95,8 +96,8 @@ bool ValidateBounds(const std::vector<NamedBounds>& bounds, std::string* error) 
       return false;
     }
     if (entry.lower > entry.upper) {
-      *error = field + ": lower " + FormatNumber(entry.lower) + " > upper " +
-               FormatNumber(entry.upper);
+      *error =
+          field + ": lower " + FormatNumber(entry.lower) + " > upper " + FormatNumber(entry.upper);
       return false;
     }
     if (entry.lower == entry.upper) {

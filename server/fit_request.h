@@ -14,11 +14,11 @@ namespace foothold {
 
 // The model a request names: a catalogue family or an expression.
 struct ModelSpec {
-  std::string family;                 // catalogue name, or empty for an expression
-  std::optional<int> degree;          // polynomial only
-  std::optional<int> peaks;           // multi_* only
-  bool auto_peaks = false;            // multi_* only: "peaks": "auto"
-  std::string expression;             // maths text, or empty for a family
+  std::string family;                   // catalogue name, or empty for an expression
+  std::optional<int> degree;            // polynomial only
+  std::optional<int> peaks;             // multi_* only
+  bool auto_peaks = false;              // multi_* only: "peaks": "auto"
+  std::string expression;               // maths text, or empty for a family
   std::vector<std::string> parameters;  // expression parameter order; empty = first use
 
   bool IsFamily() const { return !family.empty(); }

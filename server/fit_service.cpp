@@ -62,13 +62,13 @@ bool BuildResponse(const FitRequest& request, Eigen::VectorXd* response,
     return true;
   }
   if (IsIdentifier(request.response)) {
-    *error = "response: the data have no column '" + request.response + "' (columns: " +
-             table.ListColumnNames() + ")";
+    *error = "response: the data have no column '" + request.response +
+             "' (columns: " + table.ListColumnNames() + ")";
     return false;
   }
   std::string expression_error;
-  if (!EvaluateColumnExpression(request.response, table.ColumnNames(), table.ToMatrix(),
-                                response, &expression_error)) {
+  if (!EvaluateColumnExpression(request.response, table.ColumnNames(), table.ToMatrix(), response,
+                                &expression_error)) {
     *error = "response '" + request.response + "': " + expression_error;
     return false;
   }
@@ -96,8 +96,8 @@ bool BuildSigma(const FitRequest& request, Eigen::VectorXd* sigma, std::string* 
   }
   const int index = table.ColumnIndex(name);
   if (index < 0) {
-    *error = "sigma_column: the data have no column '" + name + "' (columns: " +
-             table.ListColumnNames() + ")";
+    *error = "sigma_column: the data have no column '" + name +
+             "' (columns: " + table.ListColumnNames() + ")";
     return false;
   }
   const std::vector<double>& values = table.Column(index);
@@ -122,8 +122,7 @@ bool BuildModel(const ModelSpec& spec, const std::vector<std::string>& predictor
     if (!description) {
       std::vector<std::string> names;
       for (const FamilyDescription& family : FamilyCatalogue()) names.push_back(family.name);
-      *error = "model.family: unknown family '" + spec.family + "' (families: " + Join(names) +
-               ")";
+      *error = "model.family: unknown family '" + spec.family + "' (families: " + Join(names) + ")";
       return false;
     }
     auto takes = [&](const std::string& option) {
@@ -141,8 +140,9 @@ bool BuildModel(const ModelSpec& spec, const std::vector<std::string>& predictor
       return false;
     }
     if (spec.auto_peaks) {
-      *error = "model.peaks = 'auto': choosing the peak count from the data is not supported "
-               "yet; give a number";
+      *error =
+          "model.peaks = 'auto': choosing the peak count from the data is not supported "
+          "yet; give a number";
       return false;
     }
     FamilyRequest family_request;
@@ -180,8 +180,7 @@ int ParameterIndex(const std::vector<std::string>& names, const std::string& nam
 
 std::string UnknownParameter(const std::string& field, const std::string& name,
                              const std::vector<std::string>& names) {
-  return field + ": unknown parameter '" + name + "' (the model's parameters: " + Join(names) +
-         ")";
+  return field + ": unknown parameter '" + name + "' (the model's parameters: " + Join(names) + ")";
 }
 
 // Bounds (family defaults, then the request), fixed flags and the start vector.
@@ -331,9 +330,9 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
   outcome.seed = request.seed;
 
   outcome.best = MinimizeLevenbergMarquardt(problem, prepared.start, prepared.solver_options);
-  const Eigen::VectorXd& end =
-      outcome.best.parameters.size() == prepared.start.size() ? outcome.best.parameters
-                                                              : prepared.start;
+  const Eigen::VectorXd& end = outcome.best.parameters.size() == prepared.start.size()
+                                   ? outcome.best.parameters
+                                   : prepared.start;
   outcome.statistics = ComputeFitStatistics(problem, end);
 
   StartRecord record;
@@ -354,8 +353,7 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
   outcome.starts.push_back(std::move(record));
   outcome.verdict = JudgeFit(outcome);
   outcome.elapsed_ms =
-      std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - started)
-          .count();
+      std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - started).count();
   return outcome;
 }
 

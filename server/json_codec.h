@@ -17,8 +17,7 @@ using Json = nlohmann::ordered_json;
 
 // Parses JSON text; false with "invalid JSON: parse error at line 3, column 5: ..." (the
 // message starts with `what`, e.g. "request").
-bool ParseJsonText(const std::string& text, const std::string& what, Json* out,
-                   std::string* error);
+bool ParseJsonText(const std::string& text, const std::string& what, Json* out, std::string* error);
 
 // {"x": [...], "y": [...], ...}: every value an array of finite numbers, equal lengths.
 // `field` prefixes messages ("data" gives "data.y[3]: expected a finite number, got

@@ -36,12 +36,12 @@ bool ExpectString(const Json& value, const std::string& field, std::string* out,
   return true;
 }
 
-bool ExpectInteger(const Json& value, const std::string& field, long long min_value,
-                   long long* out, std::string* error) {
-  if (!value.is_number_integer() || (value.is_number_unsigned() &&
-                                     value.get<unsigned long long>() >
-                                         static_cast<unsigned long long>(
-                                             std::numeric_limits<long long>::max()))) {
+bool ExpectInteger(const Json& value, const std::string& field, long long min_value, long long* out,
+                   std::string* error) {
+  if (!value.is_number_integer() ||
+      (value.is_number_unsigned() &&
+       value.get<unsigned long long>() >
+           static_cast<unsigned long long>(std::numeric_limits<long long>::max()))) {
     *error = field + ": expected an integer, " + Got(value);
     return false;
   }
@@ -95,8 +95,8 @@ bool DecodeBound(const Json& value, const std::string& field, double unbounded, 
 bool DecodeNamedValues(const Json& value, const std::string& field, std::vector<NamedValue>* out,
                        std::string* error) {
   if (!value.is_object()) {
-    *error = field + ": expected an object of parameter values such as {\"height\": 1.5}, " +
-             Got(value);
+    *error =
+        field + ": expected an object of parameter values such as {\"height\": 1.5}, " + Got(value);
     return false;
   }
   out->clear();
@@ -197,8 +197,8 @@ bool DecodeModel(const Json& value, ModelSpec* out, std::string* error) {
 }
 
 // The scalar options of the request, one key at a time. False when the key is unknown.
-bool DecodeOption(const std::string& key, const Json& item, FitRequest* request,
-                  bool* known, std::string* error) {
+bool DecodeOption(const std::string& key, const Json& item, FitRequest* request, bool* known,
+                  std::string* error) {
   *known = true;
   long long seed = 0;
   if (key == "label") return ExpectString(item, key, &request->label, error);
@@ -238,7 +238,8 @@ bool ParseJsonText(const std::string& text, const std::string& what, Json* out,
                    std::string* error) {
   try {
     *out = Json::parse(text);
-  } catch (const Json::parse_error& failure) {
+  } catch (const Json::exception& failure) {
+    // Syntax errors and number overflow ("1e400") both land here; no exception escapes.
     std::string message = failure.what();
     // Drop the library's "[json.exception.parse_error.101] " tag; keep where and why.
     const size_t tag_end = message.find("] ");

@@ -151,10 +151,9 @@ Json EncodeFitOutcome(const FitOutcome& outcome) {
   document["model"] = EncodeModel(outcome.model, outcome.parameter_names);
   document["response"] = outcome.response;
   document["predictors"] = outcome.predictor_names;
-  document["sigma_column"] =
-      outcome.IsWeighted() ? Json(outcome.sigma_column) : Json(nullptr);
-  document["sigma_mode"] = outcome.IsWeighted() ? Json(ToString(outcome.sigma_mode))
-                                                : Json(nullptr);
+  document["sigma_column"] = outcome.IsWeighted() ? Json(outcome.sigma_column) : Json(nullptr);
+  document["sigma_mode"] =
+      outcome.IsWeighted() ? Json(ToString(outcome.sigma_mode)) : Json(nullptr);
   document["best"] = EncodeBest(outcome);
   document["basins"] = EncodeBasins(outcome);
   document["starts"] = EncodeStarts(outcome);

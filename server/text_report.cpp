@@ -54,8 +54,8 @@ std::string DataLine(const FitOutcome& outcome, const std::string& source) {
   std::string line = source + ": " + std::to_string(outcome.statistics.num_points) +
                      " points, response " + outcome.response + ", ";
   if (outcome.IsWeighted()) {
-    line += "sigma from column '" + outcome.sigma_column + "' (" +
-            ToString(outcome.sigma_mode) + ")";
+    line +=
+        "sigma from column '" + outcome.sigma_column + "' (" + ToString(outcome.sigma_mode) + ")";
   } else {
     line += "unweighted";
   }
@@ -108,8 +108,8 @@ void WriteStatistics(const FitOutcome& outcome, std::ostream& out) {
       {"runs test p", FormatSignificant(stats.runs_p_value, kErrorDigits) + " (" +
                           std::to_string(stats.num_runs) + " runs)"},
       {"condition number", FormatSignificant(stats.condition_number, kErrorDigits)},
-      {"termination", std::string(ToString(best.termination)) +
-                          (best.message.empty() ? "" : ": " + best.message)},
+      {"termination",
+       std::string(ToString(best.termination)) + (best.message.empty() ? "" : ": " + best.message)},
       {"iterations", std::to_string(best.num_iterations) + " (" +
                          std::to_string(best.num_evaluations) + " evaluations)"},
   };

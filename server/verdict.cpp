@@ -36,10 +36,10 @@ void AddConvergenceFindings(const FitOutcome& outcome, std::vector<Finding>* fin
                          "The model gives NaN or infinity at the start point; choose a start "
                          "(or bounds) where it is defined."});
   } else if (!best.IsConverged()) {
-    findings->push_back({"not_converged",
-                         std::string("The fit stopped (") + ToString(best.termination) +
-                             ") before converging; start closer to the optimum or raise the "
-                             "iteration and evaluation limits."});
+    findings->push_back(
+        {"not_converged", std::string("The fit stopped (") + ToString(best.termination) +
+                              ") before converging; start closer to the optimum or raise the "
+                              "iteration and evaluation limits."});
   }
 }
 
@@ -50,15 +50,14 @@ void AddIdentifiabilityFindings(const FitOutcome& outcome, const VerdictOptions&
   if (!stats.unidentifiable.empty()) {
     std::vector<std::string> affected;
     for (int j : stats.unidentifiable) affected.push_back(names[j]);
-    findings->push_back({"not_identifiable",
-                         "The data cannot determine " + JoinNames(affected) +
-                             "; fix one of them or simplify the model."});
+    findings->push_back({"not_identifiable", "The data cannot determine " + JoinNames(affected) +
+                                                 "; fix one of them or simplify the model."});
   } else if (stats.condition_number > options.max_condition_number) {
-    findings->push_back({"ill_conditioned",
-                         "The Jacobian is ill-conditioned (condition number " +
-                             Short(stats.condition_number) +
-                             "); the errors are unreliable, consider fixing or rescaling "
-                             "parameters."});
+    findings->push_back(
+        {"ill_conditioned", "The Jacobian is ill-conditioned (condition number " +
+                                Short(stats.condition_number) +
+                                "); the errors are unreliable, consider fixing or rescaling "
+                                "parameters."});
   }
   std::vector<std::string> at_bound;
   for (size_t j = 0; j < names.size() && j < stats.at_bound.size(); ++j) {
@@ -66,7 +65,8 @@ void AddIdentifiabilityFindings(const FitOutcome& outcome, const VerdictOptions&
     if (stats.at_bound[j] && !fixed) at_bound.push_back(names[j]);
   }
   if (!at_bound.empty()) {
-    findings->push_back({"at_bound", JoinNames(at_bound) + (at_bound.size() == 1 ? " sits" : " sit") +
+    findings->push_back({"at_bound", JoinNames(at_bound) +
+                                         (at_bound.size() == 1 ? " sits" : " sit") +
                                          " on a bound, so the optimum may lie beyond it; widen "
                                          "the bounds or check the model."});
   }
@@ -85,10 +85,9 @@ void AddIdentifiabilityFindings(const FitOutcome& outcome, const VerdictOptions&
     }
   }
   if (worst_a >= 0 && std::abs(worst) > options.max_abs_correlation) {
-    findings->push_back({"highly_correlated",
-                         names[worst_a] + " and " + names[worst_b] +
-                             " are almost interchangeable (correlation " + Short(worst) +
-                             "); fix one or reparametrise."});
+    findings->push_back({"highly_correlated", names[worst_a] + " and " + names[worst_b] +
+                                                  " are almost interchangeable (correlation " +
+                                                  Short(worst) + "); fix one or reparametrise."});
   }
 }
 
@@ -109,20 +108,22 @@ void AddGoodnessFindings(const FitOutcome& outcome, const VerdictOptions& option
     if (upper_tail < options.chi2_tail_probability) {
       findings->push_back({"chi2_high",
                            "The residuals are larger than the given sigma allow (reduced "
-                           "chi-square " + Short(stats.reduced_chi2) +
+                           "chi-square " +
+                               Short(stats.reduced_chi2) +
                                "); the sigma are too small or the model misses something."});
     } else if (lower_tail < options.chi2_tail_probability) {
       findings->push_back({"chi2_low",
                            "The residuals are smaller than the given sigma suggest (reduced "
-                           "chi-square " + Short(stats.reduced_chi2) +
+                           "chi-square " +
+                               Short(stats.reduced_chi2) +
                                "); the sigma are probably overestimated."});
     }
   }
   if (std::isfinite(stats.runs_p_value) && stats.runs_p_value < options.min_runs_p_value) {
-    findings->push_back({"structured_residuals",
-                         "The residual signs run in long stretches (runs test p = " +
-                             Short(stats.runs_p_value) +
-                             "); the model probably misses a feature of the data."});
+    findings->push_back(
+        {"structured_residuals",
+         "The residual signs run in long stretches (runs test p = " + Short(stats.runs_p_value) +
+             "); the model probably misses a feature of the data."});
   }
 }
 
@@ -136,8 +137,7 @@ Verdict JudgeFit(const FitOutcome& outcome, const VerdictOptions& options) {
   Verdict verdict;
   for (const Finding& finding : findings) verdict.flags.push_back(finding.flag);
   if (findings.empty()) {
-    verdict.summary =
-        "Converged to a well-determined optimum; the residuals show no structure.";
+    verdict.summary = "Converged to a well-determined optimum; the residuals show no structure.";
   } else {
     verdict.summary = findings.front().sentence;
   }

@@ -33,8 +33,8 @@ std::string ReadAll(const fs::path& path) {
 TEST_CASE("CliBinary: the binary fits good data and refuses bad data", "[server]") {
   INFO("the test needs the foothold target built at " << kBinary);
   REQUIRE(fs::exists(kBinary));
-  const fs::path dir = fs::temp_directory_path() / ("foothold-binary-test-" +
-                                                    std::to_string(::getpid()));
+  const fs::path dir =
+      fs::temp_directory_path() / ("foothold-binary-test-" + std::to_string(::getpid()));
   fs::create_directories(dir);
   {
     std::ofstream good(dir / "line.csv");

@@ -66,8 +66,8 @@ std::string GaussianCsv(bool with_sigma = false) {
   csv << (with_sigma ? "x,y,sigma\n" : "x,y\n");
   for (int i = 0; i <= 40; ++i) {
     const double x = 0.25 * i;
-    const double y = 10.0 * std::exp(-(x - 5.0) * (x - 5.0) / (2 * 1.2 * 1.2)) + 1.0 +
-                     0.05 * std::sin(7.3 * i);
+    const double y =
+        10.0 * std::exp(-(x - 5.0) * (x - 5.0) / (2 * 1.2 * 1.2)) + 1.0 + 0.05 * std::sin(7.3 * i);
     csv << x << ',' << y;
     if (with_sigma) csv << ",0.05";
     csv << '\n';
@@ -103,20 +103,18 @@ TEST_CASE("Cli: bad data files exit 2 naming the problem", "[server]") {
   CheckBadInput(Run(FitArgs(dir.Write("empty.csv", ""), kGaussianStart)), "the file is empty");
   CheckBadInput(Run(FitArgs(dir.Write("noy.csv", "x,z\n1,2\n2,3\n"), kGaussianStart)),
                 "response: the data have no column 'y' (columns: x, z)");
-  CheckBadInput(Run(FitArgs(dir.Write("ragged.csv", "x,y,z\n1,2,3\n4,5,6\n7,8\n"),
-                            kGaussianStart)),
+  CheckBadInput(Run(FitArgs(dir.Write("ragged.csv", "x,y,z\n1,2,3\n4,5,6\n7,8\n"), kGaussianStart)),
                 "row 4 has 2 fields but the header has 3");
-  CheckBadInput(Run(FitArgs(dir.Write("text.csv", "x,y\n1,2\n2,3\n3,4\n4,five\n"),
-                            kGaussianStart)),
+  CheckBadInput(Run(FitArgs(dir.Write("text.csv", "x,y\n1,2\n2,3\n3,4\n4,five\n"), kGaussianStart)),
                 "row 5, column 'y': 'five' is not a number");
   CheckBadInput(Run(FitArgs(dir.Write("nan.csv", "x,y\n1,2\n2,NaN\n"), kGaussianStart)),
                 "row 3, column 'y': 'NaN' is not a finite number");
-  CheckBadInput(Run(FitArgs(dir.Write("inf.json", R"({"x": [1, 2], "y": [1, "Inf"]})"),
-                            kGaussianStart)),
-                "data.y[1]: expected a finite number, got \"Inf\"");
-  CheckBadInput(Run(FitArgs(dir.Write("sigma.csv", "x,y,sigma\n1,2,1\n2,3,1\n3,4,-0.5\n"),
-                            {"--family", "line", "--start", "slope=1,intercept=0"})),
-                "row 4, column 'sigma': sigma -0.5 is not > 0");
+  CheckBadInput(
+      Run(FitArgs(dir.Write("inf.json", R"({"x": [1, 2], "y": [1, "Inf"]})"), kGaussianStart)),
+      "data.y[1]: expected a finite number, got \"Inf\"");
+  const std::string sigma = dir.Write("sigma.csv", "x,y,sigma\n1,2,1\n2,3,1\n3,4,-0.5\n");
+  CheckBadInput(Run(FitArgs(sigma, {"--family", "line", "--start", "slope=1,intercept=0"})),
+                sigma + ": row 4, column 'sigma': sigma -0.5 is not > 0");
 }
 
 TEST_CASE("Cli: bad model and parameter choices exit 2 naming the problem", "[server]") {
@@ -164,13 +162,13 @@ TEST_CASE("Cli: unknown flags, missing values and unknown commands exit 2", "[se
 
 TEST_CASE("Cli: a request document with a bad field exits 2 naming it", "[server]") {
   TempDir dir;
-  const std::string request = dir.Write(
-      "request.json",
-      R"({"model": {"family": "gaussian"}, "data": {"x": [1, 2, 3], "y": [1, 2, "x"]}})");
+  const std::string request =
+      dir.Write("request.json",
+                R"({"model": {"family": "gaussian"}, "data": {"x": [1, 2, 3], "y": [1, 2, "x"]}})");
   CheckBadInput(Run({"fit", "--request", request}),
                 "request.json: data.y[2]: expected a finite number, got \"x\"");
-  const std::string bounds = dir.Write(
-      "bounds.json", R"({"model": {"family": "line"}, "bounds": {"slope": [5, 2]}})");
+  const std::string bounds =
+      dir.Write("bounds.json", R"({"model": {"family": "line"}, "bounds": {"slope": [5, 2]}})");
   CheckBadInput(Run({"fit", "--request", bounds}), "bounds.slope: lower 5 > upper 2");
 }
 
@@ -180,10 +178,9 @@ TEST_CASE("Cli: a gaussian family fit prints the parameter table", "[server]") {
   INFO(run.err);
   REQUIRE(run.code == foothold::kExitOk);
   CHECK(run.err.empty());
-  for (const char* text : {"parameter", "std. error", "95% interval", "height", "center",
-                           "sigma", "baseline", "reduced chi-square", "R^2", "RMSE", "AICc",
-                           "Durbin-Watson", "runs test p", "condition number", "termination",
-                           "verdict:"}) {
+  for (const char* text : {"parameter", "std. error", "95% interval", "height", "center", "sigma",
+                           "baseline", "reduced chi-square", "R^2", "RMSE", "AICc", "Durbin-Watson",
+                           "runs test p", "condition number", "termination", "verdict:"}) {
     INFO(text);
     CHECK(run.out.find(text) != std::string::npos);
   }
@@ -229,8 +226,8 @@ TEST_CASE("Cli: an expression fit reads two predictor columns", "[server]") {
   for (int i = 0; i < 30; ++i) {
     const double t = 0.5 * i;
     const double dose = 1.0 + (i % 5);
-    csv << t << ',' << dose << ',' << 3.0 * dose * std::exp(-t / 4.0) + 0.5 + 0.01 * std::cos(3.1 * i)
-        << '\n';
+    csv << t << ',' << dose << ','
+        << 3.0 * dose * std::exp(-t / 4.0) + 0.5 + 0.01 * std::cos(3.1 * i) << '\n';
   }
   const CliRun run = Run(FitArgs(dir.Write("decay.csv", csv.str()),
                                  {"--expr", "a*dose*exp(-t/tau) + b", "--params", "a,tau,b",
@@ -250,9 +247,9 @@ TEST_CASE("Cli: a transformed response is fitted", "[server]") {
   std::ostringstream csv;
   csv << "x,y\n";
   for (int i = 1; i <= 12; ++i) csv << i << ',' << 2.0 * std::exp(0.3 * i) << '\n';
-  const CliRun run = Run(FitArgs(dir.Write("growth.csv", csv.str()),
-                                 {"--family", "line", "--y", "log(y)", "--start",
-                                  "slope=0,intercept=0", "--json"}));
+  const CliRun run = Run(
+      FitArgs(dir.Write("growth.csv", csv.str()),
+              {"--family", "line", "--y", "log(y)", "--start", "slope=0,intercept=0", "--json"}));
   INFO(run.err);
   REQUIRE(run.code == foothold::kExitOk);
   const Json document = Json::parse(run.out);
@@ -263,12 +260,12 @@ TEST_CASE("Cli: a transformed response is fitted", "[server]") {
 
 TEST_CASE("Cli: a request document fits and DATA overrides its data", "[server]") {
   TempDir dir;
-  const std::string request = dir.Write(
-      "request.json",
-      R"({"model": {"family": "gaussian"}, "data": {"x": [0, 1], "y": [1, 2]},
+  const std::string request =
+      dir.Write("request.json",
+                R"({"model": {"family": "gaussian"}, "data": {"x": [0, 1], "y": [1, 2]},
           "start": {"height": 8, "center": 4.5, "sigma": 1, "baseline": 0.5}})");
-  const CliRun run = Run({"fit", dir.Write("peak.csv", GaussianCsv()), "--request", request,
-                          "--json"});
+  const CliRun run =
+      Run({"fit", dir.Write("peak.csv", GaussianCsv()), "--request", request, "--json"});
   INFO(run.err);
   REQUIRE(run.code == foothold::kExitOk);
   CHECK(Json::parse(run.out)["best"]["dof"] == 37);
@@ -298,10 +295,28 @@ TEST_CASE("Cli: families lists the catalogue and help documents every flag", "[s
   CHECK(Json::parse(json.out)["families"].size() >= 19);
   const CliRun help = Run({"fit", "--help"});
   REQUIRE(help.code == foothold::kExitOk);
-  for (const char* flag : {"--family", "--degree", "--peaks", "--expr", "--params", "--start",
-                           "--fix", "--bounds", "--y", "--sigma-column", "--sigma ", "--request",
-                           "--json", "--label", "--loss", "--method", "--starts", "--seed",
-                           "--threads", "--deadline", "--max-iterations", "--max-evaluations"}) {
+  for (const char* flag : {"--family",
+                           "--degree",
+                           "--peaks",
+                           "--expr",
+                           "--params",
+                           "--start",
+                           "--fix",
+                           "--bounds",
+                           "--y",
+                           "--sigma-column",
+                           "--sigma ",
+                           "--request",
+                           "--json",
+                           "--label",
+                           "--loss",
+                           "--method",
+                           "--starts",
+                           "--seed",
+                           "--threads",
+                           "--deadline",
+                           "--max-iterations",
+                           "--max-evaluations"}) {
     INFO(flag);
     CHECK(help.out.find(flag) != std::string::npos);
   }

@@ -1,7 +1,8 @@
 // CSV reading and numeric tables: quoting, line ends, row numbering, error wording.
+#include "server/csv_reader.h"
+
 #include <catch2/catch.hpp>
 
-#include "server/csv_reader.h"
 #include "server/data_table.h"
 
 using foothold::CsvDocument;
@@ -35,8 +36,8 @@ TEST_CASE("CsvReader: CRLF, byte order mark, spaces and trailing blank lines", "
 TEST_CASE("CsvReader: quoted fields with commas, escaped quotes and line breaks", "[server]") {
   CsvDocument document;
   std::string error;
-  REQUIRE(ParseCsv("\"time, s\",\"say \"\"hi\"\"\"\n\"1\",\"two\nlines\"\n5,6\n", &document,
-                   &error));
+  REQUIRE(
+      ParseCsv("\"time, s\",\"say \"\"hi\"\"\"\n\"1\",\"two\nlines\"\n5,6\n", &document, &error));
   CHECK(document.header == std::vector<std::string>{"time, s", "say \"hi\""});
   REQUIRE(document.records.size() == 2);
   CHECK(document.records[0].fields[1] == "two\nlines");

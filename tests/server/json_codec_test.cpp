@@ -1,11 +1,12 @@
 // The codec: request documents decode with field-naming errors; outcomes encode to the
 // result document with every required key and null for non-finite numbers.
+#include "server/json_codec.h"
+
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
 
 #include "server/fit_service.h"
-#include "server/json_codec.h"
 
 using foothold::DecodeFitRequestText;
 using foothold::EncodeFitOutcome;
@@ -74,6 +75,8 @@ TEST_CASE("JsonCodec: decoding errors name the field and index", "[server]") {
   CHECK(DecodeError(R"({"satrt": {}})").find("satrt: unknown field") == 0);
   CHECK(DecodeError(R"([1, 2])") == "request: expected an object with model and data, got [1,2]");
   CHECK(DecodeError("{\"model\": ").find("request: invalid JSON: parse error at line 1") == 0);
+  CHECK(DecodeError(R"({"data": {"x": [1e400]}})").find("request: invalid JSON: number overflow") ==
+        0);
 }
 
 TEST_CASE("JsonCodec: fields for later work decode but fail validation", "[server]") {
