@@ -1,36 +1,21 @@
 #pragma once
 // What a fit produced, as plain values: the best end point with its statistics, the
 // basins, the start log and the verdict. json_codec.h turns it into the result document.
+// Start records and basins are the multistart driver's own types, so a single fit and a
+// multistart run fill the same outcome.
 
 #include <Eigen/Core>
 #include <cstdint>
 #include <string>
 #include <vector>
 
+#include "engine/multistart/multistart_summary.h"
 #include "engine/solve/levenberg_marquardt.h"
 #include "engine/solve/problem.h"
 #include "engine/stats/fit_statistics.h"
 #include "server/fit_request.h"
 
 namespace foothold {
-
-// One local fit in the start log.
-struct StartRecord {
-  int index = 0;
-  std::string origin;  // "user", later "guess:<name>", "sobol", "jitter"
-  LocalFitSummary summary;
-  int basin = -1;  // basin id, or -1 when the start did not converge
-};
-
-// A distinct optimum.
-struct Basin {
-  int id = 0;
-  double rss = 0;
-  double delta_rss = 0;  // rss minus the best basin's rss
-  int num_starts = 0;
-  Eigen::VectorXd parameters;
-  Eigen::VectorXd standard_errors;
-};
 
 struct Verdict {
   // Machine-readable findings, most severe first: "not_converged", "at_bound", ...

@@ -335,19 +335,32 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
                                    : prepared.start;
   outcome.statistics = ComputeFitStatistics(problem, end);
 
+  const LocalFitSummary& best = outcome.best;
   StartRecord record;
   record.index = 0;
   record.origin = "user";
-  record.summary = outcome.best;
-  if (outcome.best.IsConverged()) {
+  record.start = best.start.size() == end.size() ? best.start : prepared.start;
+  record.end = end;
+  record.initial_rss = best.initial_cost;
+  record.rss = best.final_cost;
+  record.termination = best.termination;
+  record.message = best.message;
+  record.num_iterations = best.num_iterations;
+  record.num_evaluations = best.num_evaluations;
+  record.seconds = best.total_seconds;
+  record.converged = best.IsConverged() && std::isfinite(best.final_cost);
+  if (record.converged) {
     record.basin = 0;
     Basin basin;
     basin.id = 0;
     basin.rss = outcome.statistics.rss;
     basin.delta_rss = 0;
     basin.num_starts = 1;
+    basin.share = 1;
+    basin.representative_start = 0;
     basin.parameters = end;
     basin.standard_errors = outcome.statistics.standard_errors;
+    basin.has_standard_errors = true;
     outcome.basins.push_back(std::move(basin));
   }
   outcome.starts.push_back(std::move(record));

@@ -1,5 +1,6 @@
 // Result side of the codec: FitOutcome, the catalogue and stored requests to documents.
 #include <cmath>
+#include <limits>
 
 #include "heuristics/families/catalogue.h"
 #include "server/json_codec.h"
@@ -108,13 +109,17 @@ Json EncodeBasins(const FitOutcome& outcome) {
   for (const Basin& basin : outcome.basins) {
     Json parameters = Json::object();
     for (size_t j = 0; j < outcome.parameter_names.size(); ++j) {
+      const double stderr_value = basin.has_standard_errors
+                                      ? At(basin.standard_errors, j)
+                                      : std::numeric_limits<double>::quiet_NaN();
       parameters[outcome.parameter_names[j]] = {{"value", Number(At(basin.parameters, j))},
-                                                {"stderr", Number(At(basin.standard_errors, j))}};
+                                                {"stderr", Number(stderr_value)}};
     }
     basins.push_back({{"id", basin.id},
                       {"rss", Number(basin.rss)},
                       {"delta_rss", Number(basin.delta_rss)},
                       {"starts", basin.num_starts},
+                      {"share", Number(basin.share)},
                       {"parameters", std::move(parameters)}});
   }
   return basins;
@@ -123,21 +128,20 @@ Json EncodeBasins(const FitOutcome& outcome) {
 Json EncodeStarts(const FitOutcome& outcome) {
   Json starts = Json::array();
   for (const StartRecord& record : outcome.starts) {
-    const LocalFitSummary& summary = record.summary;
     Json entry = Json::object();
     entry["index"] = record.index;
     entry["origin"] = record.origin;
-    entry["start"] = ValuesByName(outcome.parameter_names, summary.start);
-    entry["end"] = ValuesByName(outcome.parameter_names, summary.parameters);
-    entry["rss"] = Number(summary.final_cost);
-    entry["initial_rss"] = Number(summary.initial_cost);
-    entry["termination"] = ToString(summary.termination);
-    entry["message"] = summary.message;
-    entry["iterations"] = summary.num_iterations;
-    entry["evaluations"] = summary.num_evaluations;
-    entry["converged"] = summary.IsConverged();
+    entry["start"] = ValuesByName(outcome.parameter_names, record.start);
+    entry["end"] = ValuesByName(outcome.parameter_names, record.end);
+    entry["rss"] = Number(record.rss);
+    entry["initial_rss"] = Number(record.initial_rss);
+    entry["termination"] = ToString(record.termination);
+    entry["message"] = record.message;
+    entry["iterations"] = record.num_iterations;
+    entry["evaluations"] = record.num_evaluations;
+    entry["converged"] = record.converged;
     entry["basin"] = record.basin >= 0 ? Json(record.basin) : Json(nullptr);
-    entry["seconds"] = Number(summary.total_seconds);
+    entry["seconds"] = Number(record.seconds);
     starts.push_back(std::move(entry));
   }
   return starts;
