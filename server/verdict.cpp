@@ -29,17 +29,32 @@ struct Finding {
   std::string sentence;
 };
 
+// What to do about each way of stopping short, in the user's terms.
+std::string StopAdvice(Termination termination) {
+  switch (termination) {
+    case Termination::kDeadline:
+      return "allow a longer deadline or start closer to the optimum";
+    case Termination::kCancelled:
+      return "run it again to completion";
+    default:
+      return "start closer to the optimum or raise the iteration and evaluation limits";
+  }
+}
+
 void AddConvergenceFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
   const LocalFitSummary& best = outcome.best;
   if (best.termination == Termination::kNonFiniteModel) {
     findings->push_back({"non_finite_model",
                          "The model gives NaN or infinity at the start point; choose a start "
                          "(or bounds) where it is defined."});
+  } else if (best.termination == Termination::kNoFreeParameters) {
+    findings->push_back({"no_free_parameters",
+                         "Every parameter is fixed, so nothing was fitted; the statistics "
+                         "describe the given values."});
   } else if (!best.IsConverged()) {
-    findings->push_back(
-        {"not_converged", std::string("The fit stopped (") + ToString(best.termination) +
-                              ") before converging; start closer to the optimum or raise the "
-                              "iteration and evaluation limits."});
+    findings->push_back({"not_converged", std::string("The fit stopped (") +
+                                              ToString(best.termination) + ") before converging; " +
+                                              StopAdvice(best.termination) + "."});
   }
 }
 

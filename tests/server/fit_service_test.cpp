@@ -142,3 +142,27 @@ TEST_CASE("FitService: inconsistent requests are refused with a precise message"
   CHECK_FALSE(foothold::PrepareFit(fixed_outside, &prepared, &error));
   CHECK(error == "fix.baseline = -2 is outside its bounds [0, 5]");
 }
+
+TEST_CASE("FitService: a model that is not finite at the start is reported, not fitted",
+          "[server]") {
+  FitRequest request = GaussianRequest();
+  request.model = {};
+  request.model.expression = "log(a*x) + b";
+  request.start = {{"a", -1}, {"b", 0}};
+  const FitOutcome outcome = Fit(request);
+  CHECK(outcome.best.termination == foothold::Termination::kNonFiniteModel);
+  CHECK_FALSE(outcome.IsConverged());
+  CHECK(outcome.basins.empty());
+  CHECK(outcome.verdict.flags.front() == "non_finite_model");
+}
+
+TEST_CASE("FitService: with every parameter fixed nothing is fitted and the verdict says so",
+          "[server]") {
+  FitRequest request = GaussianRequest();
+  request.start.clear();
+  request.fix = {{"height", 10}, {"center", 5}, {"sigma", 1.2}, {"baseline", 1}};
+  const FitOutcome outcome = Fit(request);
+  CHECK(outcome.best.termination == foothold::Termination::kNoFreeParameters);
+  CHECK(outcome.statistics.num_free == 0);
+  CHECK(outcome.verdict.flags.front() == "no_free_parameters");
+}
