@@ -21,7 +21,8 @@ options:
   --help, -h        this text
   --version         the version
 
-Exit status: 0 success, 2 bad input (one line on stderr), 3 a fit did not converge.
+Exit status: 0 success, 1 the output could not be written, 2 bad input (one line on
+stderr), 3 a fit did not converge.
 )TEXT";
 
 constexpr const char* kFamiliesUsage = R"TEXT(usage: foothold families [--json]
@@ -34,6 +35,14 @@ bounds.
 int BadInput(const std::string& message, std::ostream& err) {
   err << "foothold: " << message << '\n';
   return kExitBadInput;
+}
+
+// A result that never reached its reader is a failure, not a success with exit 0.
+int CheckWritten(int code, std::ostream& out, std::ostream& err) {
+  out.flush();
+  if (out) return code;
+  err << "foothold: writing the result failed\n";
+  return kExitOutputFailed;
 }
 
 int RunFamilies(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
@@ -54,7 +63,7 @@ int RunFamilies(const std::vector<std::string>& args, std::ostream& out, std::os
   } else {
     WriteFamiliesTable(out);
   }
-  return kExitOk;
+  return CheckWritten(kExitOk, out, err);
 }
 
 int RunFitCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
@@ -72,7 +81,7 @@ int RunFitCommand(const std::vector<std::string>& args, std::ostream& out, std::
   } else {
     WriteFitReport(outcome, command.data_source, out);
   }
-  return outcome.IsConverged() ? kExitOk : kExitNotConverged;
+  return CheckWritten(outcome.IsConverged() ? kExitOk : kExitNotConverged, out, err);
 }
 
 }  // namespace

@@ -9,6 +9,7 @@ namespace foothold {
 
 // Exit codes of every subcommand.
 constexpr int kExitOk = 0;
+constexpr int kExitOutputFailed = 1;  // the result could not be written (closed pipe, full disk)
 constexpr int kExitBadInput = 2;
 constexpr int kExitNotConverged = 3;
 

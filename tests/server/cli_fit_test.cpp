@@ -322,3 +322,36 @@ TEST_CASE("Cli: families lists the catalogue and help documents every flag", "[s
   }
   CHECK(Run({"--help"}).out.find("families") != std::string::npos);
 }
+
+namespace {
+
+// A stream buffer that accepts `capacity` characters and then fails, like a closed pipe.
+class FailingBuffer : public std::streambuf {
+ public:
+  explicit FailingBuffer(int capacity) : remaining_(capacity) {}
+
+ protected:
+  int_type overflow(int_type c) override {
+    if (remaining_ <= 0) return traits_type::eof();
+    --remaining_;
+    return c;
+  }
+
+ private:
+  int remaining_;
+};
+
+}  // namespace
+
+TEST_CASE("Cli: a result that cannot be written exits 1", "[server]") {
+  TempDir dir;
+  const std::string data = dir.Write("peak.csv", GaussianCsv());
+  for (int capacity : {0, 100}) {
+    FailingBuffer buffer(capacity);
+    std::ostream out(&buffer);
+    std::ostringstream err;
+    INFO("capacity " << capacity);
+    CHECK(RunCli(FitArgs(data, kGaussianStart), out, err) == foothold::kExitOutputFailed);
+    CHECK(err.str() == "foothold: writing the result failed\n");
+  }
+}
