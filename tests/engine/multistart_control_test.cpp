@@ -147,7 +147,7 @@ TEST_CASE("Multistart: progress reports every finished start and the best rss", 
       model, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
   int calls = 0, last_finished = 0, last_planned = 0;
   double last_best = 0;
-  bool local_callback_called = false;
+  std::atomic<bool> local_callback_called{false};  // called from the workers concurrently
   MultistartOptions options;
   options.max_starts = 24;
   options.num_threads = 2;
