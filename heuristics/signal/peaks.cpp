@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <map>
 #include <sstream>
 
 #include "heuristics/signal/internal/curve_checks.h"
@@ -49,9 +50,15 @@ bool MeasurePeak(const Eigen::VectorXd& x, const SmoothedCurve& smooth, const Ba
   if (!(d2[i] + fraction * (d2[i + 1] - d2[i]) < 0.0)) return false;
   // Bases and prominence compare samples with samples only, so that of two neighbouring
   // noise tops the higher one always wins; the height uses the value at the true center.
-  // The derivative of each local fit and the differences of the smoothed values need not
-  // agree to the sample, so climb from the crossing to the local maximum of the samples.
-  Eigen::Index apex = s[i] >= s[i + 1] ? i : i + 1;
+  // Sample to sample, the smoothed values still jitter by about noise / sqrt(window) on a
+  // flat top, so the apex is the highest sample within one half-window of the crossing
+  // (features closer than that are not resolved anyway), then climbed to a local maximum.
+  const Eigen::Index h = smooth.half_window;
+  const Eigen::Index first = std::max<Eigen::Index>(0, i - h);
+  const Eigen::Index last = std::min<Eigen::Index>(s.size() - 1, i + 1 + h);
+  Eigen::Index apex = first;
+  s.segment(first, last - first + 1).maxCoeff(&apex);
+  apex += first;
   while (apex > 0 && s[apex - 1] > s[apex]) --apex;
   while (apex + 1 < s.size() && s[apex + 1] > s[apex]) ++apex;
   const Eigen::Index nearest = fraction < 0.5 ? i : i + 1;
@@ -136,16 +143,23 @@ PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const Pea
                options.min_prominence_fraction * (signal.maxCoeff() - signal.minCoeff()));
 
   const Eigen::VectorXd& d1 = smooth.first_derivative;
+  std::map<int, Peak> by_apex;
   for (Eigen::Index i = 0; i + 1 < x.size(); ++i) {
     if (!(d1[i] > 0.0 && d1[i + 1] <= 0.0)) continue;
     Peak peak;
     if (!MeasurePeak(x, smooth, baseline, i, &peak)) continue;
     if (peak.prominence < out.prominence_threshold) continue;
-    // Two crossings that climb to the same sample are one peak.
-    if (!out.peaks.empty() && out.peaks.back().apex_index == peak.apex_index) continue;
     peak.height *= sign;
-    out.peaks.push_back(peak);
+    // Crossings that share an apex are one peak: keep the crossing nearest the apex sample.
+    const auto found = by_apex.find(peak.apex_index);
+    const double apex_x = x[peak.apex_index];
+    if (found == by_apex.end()) {
+      by_apex.emplace(peak.apex_index, peak);
+    } else if (std::abs(peak.center - apex_x) < std::abs(found->second.center - apex_x)) {
+      found->second = peak;
+    }
   }
+  for (const auto& entry : by_apex) out.peaks.push_back(entry.second);
   std::stable_sort(out.peaks.begin(), out.peaks.end(),
                    [](const Peak& a, const Peak& b) { return a.prominence > b.prominence; });
   if (options.max_peaks > 0 && out.peaks.size() > static_cast<size_t>(options.max_peaks)) {

@@ -62,33 +62,63 @@ double PowerAt(const Centred& c, double frequency) {
   return PowerFromSums(sc, ss, sc2, ss2, static_cast<double>(c.t.size()), c.variance);
 }
 
-// Powers at f_k = (k + 1) df, k = 0..K-1, by rotating exp(i w t) one grid step at a time.
+// Adds the four sums for points [first, first + kLanes) at every grid frequency. The points
+// rotate exp(i w t) one grid step at a time, side by side, so that the independent
+// recurrences overlap in the pipeline instead of waiting on each other.
+template <int kLanes>
+void AccumulateLanes(const Centred& c, Eigen::Index first, double df, int num_frequencies,
+                     Eigen::VectorXd* sum_c, Eigen::VectorXd* sum_s, Eigen::VectorXd* sum_c2,
+                     Eigen::VectorXd* sum_s2) {
+  double step[kLanes], step_cos[kLanes], step_sin[kLanes], y[kLanes], cw[kLanes], sw[kLanes];
+  for (int l = 0; l < kLanes; ++l) {
+    step[l] = kTwoPi * df * c.t[first + l];
+    step_cos[l] = std::cos(step[l]);
+    step_sin[l] = std::sin(step[l]);
+    y[l] = c.residual[first + l];
+    cw[l] = step_cos[l];
+    sw[l] = step_sin[l];
+  }
+  for (int k = 0; k < num_frequencies; ++k) {
+    if (k > 0 && k % kRecurrenceRestart == 0) {
+      for (int l = 0; l < kLanes; ++l) {
+        cw[l] = std::cos((k + 1) * step[l]);
+        sw[l] = std::sin((k + 1) * step[l]);
+      }
+    }
+    double add_c = 0.0, add_s = 0.0, add_c2 = 0.0, add_s2 = 0.0;
+    for (int l = 0; l < kLanes; ++l) {
+      add_c += y[l] * cw[l];
+      add_s += y[l] * sw[l];
+      add_c2 += (cw[l] - sw[l]) * (cw[l] + sw[l]);  // cos 2wt
+      add_s2 += 2.0 * cw[l] * sw[l];                // sin 2wt
+      const double next_cos = cw[l] * step_cos[l] - sw[l] * step_sin[l];
+      sw[l] = sw[l] * step_cos[l] + cw[l] * step_sin[l];
+      cw[l] = next_cos;
+    }
+    (*sum_c)[k] += add_c;
+    (*sum_s)[k] += add_s;
+    (*sum_c2)[k] += add_c2;
+    (*sum_s2)[k] += add_s2;
+  }
+}
+
+// Powers at f_k = (k + 1) df, k = 0..K-1.
 Eigen::VectorXd PowersOnGrid(const Centred& c, double df, int num_frequencies) {
+  constexpr int kLanes = 4;
   Eigen::VectorXd sum_c = Eigen::VectorXd::Zero(num_frequencies);
   Eigen::VectorXd sum_s = sum_c, sum_c2 = sum_c, sum_s2 = sum_c;
-  for (Eigen::Index i = 0; i < c.t.size(); ++i) {
-    const double step = kTwoPi * df * c.t[i];
-    const double step_cos = std::cos(step), step_sin = std::sin(step);
-    const double y = c.residual[i];
-    double cos_wt = step_cos, sin_wt = step_sin;
-    for (int k = 0; k < num_frequencies; ++k) {
-      if (k > 0 && k % kRecurrenceRestart == 0) {
-        cos_wt = std::cos((k + 1) * step);
-        sin_wt = std::sin((k + 1) * step);
-      }
-      sum_c[k] += y * cos_wt;
-      sum_s[k] += y * sin_wt;
-      sum_c2[k] += (cos_wt - sin_wt) * (cos_wt + sin_wt);  // cos 2wt
-      sum_s2[k] += 2.0 * cos_wt * sin_wt;                  // sin 2wt
-      const double next_cos = cos_wt * step_cos - sin_wt * step_sin;
-      sin_wt = sin_wt * step_cos + cos_wt * step_sin;
-      cos_wt = next_cos;
-    }
+  const Eigen::Index n = c.t.size();
+  Eigen::Index i = 0;
+  for (; i + kLanes <= n; i += kLanes) {
+    AccumulateLanes<kLanes>(c, i, df, num_frequencies, &sum_c, &sum_s, &sum_c2, &sum_s2);
+  }
+  for (; i < n; ++i) {
+    AccumulateLanes<1>(c, i, df, num_frequencies, &sum_c, &sum_s, &sum_c2, &sum_s2);
   }
   Eigen::VectorXd powers(num_frequencies);
-  const double n = static_cast<double>(c.t.size());
+  const double count = static_cast<double>(n);
   for (int k = 0; k < num_frequencies; ++k) {
-    powers[k] = PowerFromSums(sum_c[k], sum_s[k], sum_c2[k], sum_s2[k], n, c.variance);
+    powers[k] = PowerFromSums(sum_c[k], sum_s[k], sum_c2[k], sum_s2[k], count, c.variance);
   }
   return powers;
 }

@@ -95,11 +95,39 @@ TEST_CASE("FindPeaks: negative-going peaks when asked", "[heuristics]") {
   const PreparedCurve curve = MakeCurve(kThreePeaks, -1.0, kNoise, 7);
   REQUIRE(curve.IsOk());
   PeakOptions options;
-  CHECK(FindPeaks(curve.x, curve.y, options).peaks.size() < 3);  // maxima: only noise bumps
+  // Searching maxima finds the baseline between the dips, never a dip itself.
+  for (const Peak& maximum : FindPeaks(curve.x, curve.y, options).peaks) {
+    for (const GaussianPeak& dip : kThreePeaks) {
+      CHECK(std::abs(maximum.center - dip.center) > 3.0 * dip.sigma);
+    }
+  }
   options.negative = true;
   const PeakList found = FindPeaks(curve.x, curve.y, options);
   CheckRecovered(kThreePeaks, found, -1.0);
   CHECK(found.baseline.At(50.0) == Approx(2.5).margin(0.1));
+}
+
+TEST_CASE("FindPeaks: dense random sampling with flat, jittery tops", "[heuristics]") {
+  // 5000 uniformly random x: about 75 samples per sigma, so the smoothed top holds many
+  // sample-level local maxima; each peak must still come out once, with its full prominence.
+  std::mt19937 rng(8);
+  std::uniform_real_distribution<double> when(0.0, 100.0);
+  std::normal_distribution<double> noise(0.0, 0.05);
+  const std::vector<GaussianPeak> truth = {{3.0, 30.0, 1.5}, {2.0, 60.0, 0.8}};
+  const int n = 5000;
+  Eigen::VectorXd x(n), y(n);
+  for (int i = 0; i < n; ++i) {
+    x[i] = when(rng);
+    y[i] = Evaluate(truth, 0.0, 0.0, x[i]) + noise(rng);
+  }
+  const PreparedCurve curve = SortAndMerge(x, y);
+  const PeakList found = FindPeaks(curve.x, curve.y);
+  REQUIRE(found.IsOk());
+  REQUIRE(found.peaks.size() == 2);
+  CHECK(found.peaks[0].center == Approx(30.0).margin(0.05));
+  CHECK(found.peaks[0].fwhm == Approx(kFwhmPerSigma * 1.5).epsilon(kRelativeFwhmTolerance));
+  CHECK(found.peaks[1].center == Approx(60.0).margin(0.05));
+  CHECK(found.peaks[1].fwhm == Approx(kFwhmPerSigma * 0.8).epsilon(kRelativeFwhmTolerance));
 }
 
 TEST_CASE("FindPeaks: max_peaks keeps the most prominent", "[heuristics]") {

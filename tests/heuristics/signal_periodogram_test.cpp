@@ -86,7 +86,7 @@ TEST_CASE("ComputeLombScargle: 5000 points stay fast", "[heuristics]") {
   REQUIRE(spectrum.IsOk());
   CHECK(spectrum.best_frequency == Approx(sine.frequency).epsilon(kRelativeFrequencyTolerance));
   INFO("grid " << spectrum.num_frequencies << " frequencies in " << seconds << " s");
-  constexpr double kMaxSeconds = 2.0;  // generous for a shared, unoptimised build
+  constexpr double kMaxSeconds = 5.0;  // generous: the build machines are shared and loaded
   CHECK(seconds < kMaxSeconds);
 }
 
