@@ -159,6 +159,12 @@ TEST_CASE("Multistart: failed starts, odd rounds and log scales are thread-count
   const MultistartSummary one = RunMultistart(line_problem, line_candidates, line_box, options);
   INFO(one.FullReport());
   REQUIRE(one.num_non_finite > 0);
+  // 20 generated starts, every fourth a jitter slot (ordinals 3, 7, ..., 19); a basin exists
+  // from the first round on, so all five slots perturb it.
+  int num_jitter = 0;
+  for (const StartRecord& record : one.starts) num_jitter += record.origin == "jitter";
+  CHECK(num_jitter == 5);
+  CHECK(one.starts[5 + 3].origin == "jitter");
   for (int threads : {2, 8}) {
     options.num_threads = threads;
     RequireSameSummary(one, RunMultistart(line_problem, line_candidates, line_box, options));

@@ -56,6 +56,14 @@ MultistartRun::MultistartRun(const Problem& problem, const std::vector<StartCand
   best_rss_so_far_ = kNaN;
 }
 
+bool MultistartRun::IsJitterSlot(int ordinal) const {
+  // Generated start number `ordinal` (0-based) is jitter when floor(share * count) steps up
+  // there: jitter_share of the generated starts, spread evenly, whatever the round size
+  // (share 0.25: ordinals 3, 7, 11, ...). Slots before the first basin are Sobol points.
+  const double share = options_.jitter_share;
+  return std::floor(share * (ordinal + 1)) > std::floor(share * ordinal);
+}
+
 bool MultistartRun::IsCancelled() const {
   if (options_.cancel_flag && options_.cancel_flag->load(std::memory_order_relaxed)) return true;
   return options_.is_cancelled && options_.is_cancelled();
@@ -67,13 +75,6 @@ double MultistartRun::ElapsedSeconds() const {
 
 std::vector<MultistartRun::PlannedStart> MultistartRun::PlanRound(int begin, int end) {
   const int num_candidates = static_cast<int>(candidates_.size());
-  const int first_generated = std::max(begin, num_candidates);
-  const int num_generated = std::max(0, end - first_generated);
-  // The last num_jitter starts of the round perturb known basins; rounding half up.
-  const int num_jitter =
-      summary_.basins.empty()
-          ? 0
-          : static_cast<int>(std::floor(options_.jitter_share * num_generated + 0.5));
   std::vector<PlannedStart> round;
   for (int index = begin; index < end; ++index) {
     PlannedStart planned;
@@ -81,7 +82,7 @@ std::vector<MultistartRun::PlannedStart> MultistartRun::PlanRound(int begin, int
     if (index < num_candidates) {
       planned.origin = candidates_[index].origin;
       planned.start = ClampStart(problem_, box_, candidates_[index].parameters);
-    } else if (index >= end - num_jitter) {
+    } else if (!summary_.basins.empty() && IsJitterSlot(index - num_candidates)) {
       RandomStream stream(options_.seed, static_cast<std::uint64_t>(index));
       const int choices = std::min<int>(kJitterBasins, static_cast<int>(summary_.basins.size()));
       const int pick = std::min(choices - 1, static_cast<int>(stream.NextUniform() * choices));

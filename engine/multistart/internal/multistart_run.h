@@ -52,6 +52,8 @@ class MultistartRun {
   StoppingRuleEstimate EstimateFromSobolStarts() const;
   void FillVerdict();
 
+  // Whether generated start `ordinal` (counted after the candidates) perturbs a basin.
+  bool IsJitterSlot(int ordinal) const;
   bool IsCancelled() const;
   double ElapsedSeconds() const;
   bool DeadlinePassed() const { return ElapsedSeconds() > options_.deadline_seconds; }
