@@ -68,7 +68,7 @@ class ExpressionModel final : public Model {
 // `parameter_order`, when not empty, fixes the parameter order and must list exactly the
 // parameters the expression uses; otherwise parameters are in order of first appearance.
 // On a syntax error returns nullptr and sets `error` to a message naming the 1-based
-// character position and what was expected, e.g. "position 7: expected ')' but found end".
+// character position and what was expected, e.g. "position 9: expected ')' but found end of input".
 std::unique_ptr<ExpressionModel> ParseExpressionModel(
     const std::string& text, const std::vector<std::string>& column_names,
     const std::vector<std::string>& parameter_order, const ExpressionOptions& options,

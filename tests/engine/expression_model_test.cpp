@@ -122,6 +122,12 @@ TEST_CASE("ExpressionModel: derivatives of every operator agree with central dif
       {"h*exp(-(x - m)^2/(2*s^2)) + k", 0.5, 2, -2, 4},
       {"a*exp(-x/t) + b", 0.5, 2, 0, 3},
       {"exp(a)*x + b^2*c - sin(a*b)", -1, 1, -2, 2},  // scalar chains with derivatives
+      // Sums whose derivatives are handed on from operand to result down to the output.
+      {"h1*exp(-(x-m1)^2) + h2*exp(-(x-m2)^2) + h3*exp(-(x-m3)^2) + k", -1, 1, -2, 2},
+      {"a*exp(-b*x) - c*exp(-d*x) + e - x*f", 0.5, 2, 0, 2},
+      {"(a*x - b*x) - (c*x - d*x^2)", -2, 2, -3, 3},  // right-hand sides are negated
+      {"a*x + (a*x + b*x)", -2, 2, -3, 3},            // both sides carry d/da
+      {"exp(x) + a + b*x", -2, 2, -1, 1},             // a column-only vector term
       {"a", -2, 2, -3, 3},                            // the result is a parameter
       {"a*b", -2, 2, -3, 3},                          // the result is a scalar
       {"(a*x)^0 + b*x", -2, 2, -3, 3},                // a drops out: a zero column

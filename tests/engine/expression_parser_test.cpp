@@ -103,6 +103,8 @@ TEST_CASE("ExpressionModel: functions and pi", "[engine]") {
   CHECK(Value("pi") == M_PI);
   CHECK(Value("cos(pi)") == -1.0);
   CHECK(std::isnan(Value("log(x)", -1.0)));  // non-finite results are allowed at run time
+  CHECK(std::isinf(Value("x/0", 1.0)));
+  CHECK(std::isinf(Value("x/(1 - 1)", 1.0)));
 }
 
 TEST_CASE("ExpressionModel: syntax errors name the position and the expectation", "[engine]") {

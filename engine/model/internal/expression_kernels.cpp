@@ -58,10 +58,9 @@ struct MultiplyOp {
   static double Pa(double, double b, double) { return b; }
   static double Pb(double a, double, double) { return a; }
 };
+// Its derivatives are in DivideKernel.
 struct DivideOp {
   static double V(double a, double b) { return a / b; }
-  static double Pa(double, double b, double) { return 1.0 / b; }
-  static double Pb(double, double b, double v) { return -v / b; }
 };
 
 // One-operand functions: value V and slope G = df/da given v = f(a).
@@ -148,6 +147,7 @@ struct BinaryKernel {
     for (size_t k = 0; k < terms.size(); ++k) {
       double* __restrict o = out[k];
       const DerivativeTerm& term = terms[k];
+      if (term.is_shared) continue;  // the operand already wrote it in place
       if (term.from_a >= 0 && term.from_b >= 0) {
         const In<kAScalar> da(a.derivatives[term.from_a]);
         const In<kBScalar> db(b.derivatives[term.from_b]);
@@ -160,6 +160,38 @@ struct BinaryKernel {
       } else {
         const In<kBScalar> db(b.derivatives[term.from_b]);
         for (int i = 0; i < count; ++i) o[i] = Op::Pb(x[i], y[i], v[i]) * db[i];
+      }
+    }
+  }
+};
+
+// a/b with derivatives: the value is the true quotient; the derivatives use r = 1/b,
+// computed once per point, so that each derivative costs products only:
+// d(a/b) = (da - v db) r.
+template <bool kAScalar, bool kBScalar>
+struct DivideKernel {
+  static void Values(int count, const Operand& a, const Operand& b, double* __restrict out) {
+    BinaryKernel<DivideOp, kAScalar, kBScalar>::Values(count, a, b, out);
+  }
+
+  static void Derivatives(int count, const Operand& a, const Operand& b, const double* v,
+                          const std::vector<DerivativeTerm>& terms, double* const* out,
+                          double* __restrict reciprocal) {
+    const In<kBScalar> y(b.value);
+    for (int i = 0; i < count; ++i) reciprocal[i] = 1.0 / y[i];
+    for (size_t k = 0; k < terms.size(); ++k) {
+      double* __restrict o = out[k];
+      const DerivativeTerm& term = terms[k];
+      if (term.from_a >= 0 && term.from_b >= 0) {
+        const In<kAScalar> da(a.derivatives[term.from_a]);
+        const In<kBScalar> db(b.derivatives[term.from_b]);
+        for (int i = 0; i < count; ++i) o[i] = (da[i] - v[i] * db[i]) * reciprocal[i];
+      } else if (term.from_a >= 0) {
+        const In<kAScalar> da(a.derivatives[term.from_a]);
+        for (int i = 0; i < count; ++i) o[i] = da[i] * reciprocal[i];
+      } else {
+        const In<kBScalar> db(b.derivatives[term.from_b]);
+        for (int i = 0; i < count; ++i) o[i] = -v[i] * db[i] * reciprocal[i];
       }
     }
   }
@@ -271,6 +303,24 @@ void BinaryWithDerivatives(int count, const Operand& a, const Operand& b, double
   }
 }
 
+// As BinaryWithDerivatives, for kernels whose derivatives need one scratch array.
+template <template <bool, bool> class Kernel>
+void BinaryWithScratch(int count, const Operand& a, const Operand& b, double* out,
+                       const std::vector<DerivativeTerm>& terms, double* const* derivatives,
+                       double* scratch) {
+  BinaryValues<Kernel>(count, a, b, out);
+  if (terms.empty()) return;
+  if (!a.is_vector && !b.is_vector) {
+    Kernel<true, true>::Derivatives(count, a, b, out, terms, derivatives, scratch);
+  } else if (!a.is_vector) {
+    Kernel<true, false>::Derivatives(count, a, b, out, terms, derivatives, scratch);
+  } else if (!b.is_vector) {
+    Kernel<false, true>::Derivatives(count, a, b, out, terms, derivatives, scratch);
+  } else {
+    Kernel<false, false>::Derivatives(count, a, b, out, terms, derivatives, scratch);
+  }
+}
+
 template <bool kExpLog>
 void PowerWithDerivatives(int count, const Operand& a, const Operand& b, double* out,
                           const std::vector<DerivativeTerm>& terms, double* const* derivatives,
@@ -297,7 +347,6 @@ void PowerWithDerivatives(int count, const Operand& a, const Operand& b, double*
 template <bool kA, bool kB> using AddKernel = BinaryKernel<AddOp, kA, kB>;
 template <bool kA, bool kB> using SubtractKernel = BinaryKernel<SubtractOp, kA, kB>;
 template <bool kA, bool kB> using MultiplyKernel = BinaryKernel<MultiplyOp, kA, kB>;
-template <bool kA, bool kB> using DivideKernel = BinaryKernel<DivideOp, kA, kB>;
 template <bool kA, bool kB> using PowKernel = PowerKernel<false, kA, kB>;
 template <bool kA, bool kB> using PowExpLogKernel = PowerKernel<true, kA, kB>;
 
@@ -353,7 +402,7 @@ void RunWithDerivatives(const Instruction& instruction, int count, const Operand
     case OpCode::kMultiply:
       return BinaryWithDerivatives<MultiplyKernel>(count, a, b, out, terms, out_derivatives);
     case OpCode::kDivide:
-      return BinaryWithDerivatives<DivideKernel>(count, a, b, out, terms, out_derivatives);
+      return BinaryWithScratch<DivideKernel>(count, a, b, out, terms, out_derivatives, temp_a);
     case OpCode::kPow:
       return PowerWithDerivatives<false>(count, a, b, out, terms, out_derivatives, temp_a,
                                          temp_b);

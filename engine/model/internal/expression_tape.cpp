@@ -123,7 +123,13 @@ class TapeBuilder {
   // a negated vector factor passes its sign to the scalar factor (exact).
   bool Product(OpCode op, int a, int b, const Node& node, int* slot, std::string* error) {
     Instruction instruction;
-    if (op == OpCode::kDivide && tape_->slots[a].is_vector && !tape_->slots[b].is_vector) {
+    const Slot& divisor = tape_->slots[b];
+    // A literal zero divisor keeps the plain division: x/0 is inf at run time, not an
+    // error about a constant 1/0 the user never wrote.
+    const bool has_reciprocal =
+        divisor.kind != SlotKind::kConstant || std::isfinite(1.0 / divisor.constant);
+    if (op == OpCode::kDivide && tape_->slots[a].is_vector && !divisor.is_vector &&
+        has_reciprocal) {
       instruction.op = OpCode::kReciprocal;
       if (!Emit(instruction, b, -1, node, &b, error)) return false;
       op = OpCode::kMultiply;
@@ -179,11 +185,19 @@ class TapeBuilder {
     LayOutScalars();
     const Slot& slot = tape_->slots[root];
     tape_->root_in_output = slot.kind == SlotKind::kComputed && slot.is_vector;
+    MarkSharedDerivatives();
     tape_->values_layout = LayOutVectors(false);
     tape_->jacobian_layout = LayOutVectors(true);
   }
 
  private:
+  // The operand slot and dependency position whose array a shared term takes over.
+  static std::pair<int, int> SharedSource(const Instruction& instruction, size_t k) {
+    const DerivativeTerm& term = instruction.terms[k];
+    return term.from_a >= 0 ? std::make_pair(instruction.a, term.from_a)
+                            : std::make_pair(instruction.b, term.from_b);
+  }
+
   // The negated operand is read by nothing else (the syntax is a tree), so reading past
   // it leaves the negation dead, and RemoveDeadInstructions drops it.
   bool IsNegation(int s) const {
@@ -244,6 +258,28 @@ class TapeBuilder {
     }
   }
 
+  // Finds the sums that take over an operand's derivative array: + from either side and
+  // - from its left, when the operand is a computed vector that nothing reads later (the
+  // syntax is a tree, so its only reader is this sum).
+  void MarkSharedDerivatives() {
+    const auto& slots = tape_->slots;
+    for (Instruction& instruction : tape_->instructions) {
+      if (instruction.op != OpCode::kAdd && instruction.op != OpCode::kSubtract) continue;
+      if (!slots[instruction.result].is_vector || instruction.a == instruction.b) continue;
+      for (DerivativeTerm& term : instruction.terms) {
+        if (term.from_a >= 0 && term.from_b < 0) {
+          term.is_shared = IsComputedVector(instruction.a);
+        } else if (term.from_b >= 0 && term.from_a < 0 && instruction.op == OpCode::kAdd) {
+          term.is_shared = IsComputedVector(instruction.b);
+        }
+      }
+    }
+  }
+
+  bool IsComputedVector(int s) const {
+    return tape_->slots[s].kind == SlotKind::kComputed && tape_->slots[s].is_vector;
+  }
+
   // Assigns scratch columns to computed vector slots, reusing a slot's columns after its
   // last reader (never for the reader's own result, so no kernel reads what it writes).
   StorageLayout LayOutVectors(bool with_derivatives) const {
@@ -257,6 +293,24 @@ class TapeBuilder {
     StorageLayout layout;
     layout.value.assign(slots.size(), -1);
     layout.derivatives.assign(slots.size(), {});
+    layout.output_parameter.assign(slots.size(), {});
+    for (size_t s = 0; s < slots.size(); ++s) {
+      layout.derivatives[s].assign(with_derivatives ? slots[s].dependencies.size() : 0, -1);
+      layout.output_parameter[s].assign(layout.derivatives[s].size(), -1);
+    }
+    if (with_derivatives && tape_->root_in_output) {
+      // The root's derivatives are Jacobian columns, and so are those it takes over,
+      // followed from the root back through the shared sums.
+      layout.output_parameter[tape_->root] = slots[tape_->root].dependencies;
+      for (auto it = instructions.rbegin(); it != instructions.rend(); ++it) {
+        for (size_t k = 0; k < it->terms.size(); ++k) {
+          const int parameter = layout.output_parameter[it->result][k];
+          if (!it->terms[k].is_shared || parameter < 0) continue;
+          const auto [source, index] = SharedSource(*it, k);
+          layout.output_parameter[source][index] = parameter;
+        }
+      }
+    }
     std::vector<int> free_columns;
     const auto take = [&]() {
       if (free_columns.empty()) return layout.num_columns++;
@@ -264,21 +318,32 @@ class TapeBuilder {
       free_columns.pop_back();
       return column;
     };
+    // Columns handed on to a shared sum's result are not released with their first owner.
+    std::vector<std::vector<bool>> handed_on(slots.size());
+    for (size_t s = 0; s < slots.size(); ++s) {
+      handed_on[s].assign(layout.derivatives[s].size(), false);
+    }
     const auto release = [&](int s) {
-      if (slots[s].kind != SlotKind::kComputed || !slots[s].is_vector || layout.value[s] < 0) {
-        return;
+      if (!IsComputedVector(s)) return;
+      if (layout.value[s] >= 0) free_columns.push_back(layout.value[s]);
+      for (size_t k = 0; k < layout.derivatives[s].size(); ++k) {
+        if (layout.derivatives[s][k] >= 0 && !handed_on[s][k]) {
+          free_columns.push_back(layout.derivatives[s][k]);
+        }
       }
-      free_columns.push_back(layout.value[s]);
-      for (int column : layout.derivatives[s]) free_columns.push_back(column);
     };
     for (size_t i = 0; i < instructions.size(); ++i) {
       const Instruction& instruction = instructions[i];
       const int r = instruction.result;
-      if (slots[r].is_vector && !(tape_->root_in_output && r == tape_->root)) {
-        layout.value[r] = take();
-        if (with_derivatives) {
-          for (size_t k = 0; k < slots[r].dependencies.size(); ++k) {
-            layout.derivatives[r].push_back(take());
+      if (slots[r].is_vector) {
+        if (!(tape_->root_in_output && r == tape_->root)) layout.value[r] = take();
+        for (size_t k = 0; k < layout.derivatives[r].size(); ++k) {
+          if (instruction.terms[k].is_shared) {
+            const auto [source, index] = SharedSource(instruction, k);
+            layout.derivatives[r][k] = layout.derivatives[source][index];
+            handed_on[source][index] = true;
+          } else if (layout.output_parameter[r][k] < 0) {
+            layout.derivatives[r][k] = take();
           }
         }
       }

@@ -63,6 +63,9 @@ struct Slot {
 struct DerivativeTerm {
   int from_a = -1;
   int from_b = -1;
+  // A sum whose derivative is one operand's unchanged (d(u + c)/dp = du/dp) takes over that
+  // operand's array when the operand dies here: nothing is computed or copied.
+  bool is_shared = false;
 };
 
 struct Instruction {
@@ -83,8 +86,12 @@ struct StorageLayout {
   // Per slot: scalar index or first entry in `vector_columns`, -1 for column slots
   // (which point into the data) and for a root written straight into the output.
   std::vector<int> value;
-  // Per slot, per dependency: scalar index or column index.
+  // Per slot, per dependency: column index, or -1 for scalar slots and for derivatives
+  // written straight into a Jacobian column (see output_parameter).
   std::vector<std::vector<int>> derivatives;
+  // Per slot, per dependency: the parameter whose Jacobian column holds the derivative
+  // (the root's, and those the root takes over through shared sums), else -1.
+  std::vector<std::vector<int>> output_parameter;
   int num_columns = 0;
 };
 

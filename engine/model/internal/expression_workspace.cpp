@@ -42,6 +42,14 @@ TapeWorkspace::TapeWorkspace(const Tape& tape) : scalars_(tape.scalar_init) {
       column_slots_.emplace_back(static_cast<int>(s), slot.index);
     }
   }
+  const std::vector<std::vector<int>>& outputs = tape.jacobian_layout.output_parameter;
+  for (size_t s = 0; s < outputs.size(); ++s) {
+    for (size_t k = 0; k < outputs[s].size(); ++k) {
+      if (outputs[s][k] >= 0) {
+        output_derivatives_.push_back({static_cast<int>(s), static_cast<int>(k), outputs[s][k]});
+      }
+    }
+  }
   const std::vector<int>& used = tape.slots[tape.root].dependencies;
   for (int j = 0; j < tape.NumParameters(); ++j) {
     if (!std::binary_search(used.begin(), used.end(), j)) constant_parameters_.push_back(j);
@@ -62,7 +70,7 @@ void TapeWorkspace::Resize(const Tape& tape, int n) {
       jacobian_value_pointers_[s] = jacobian_columns_.col(tape.jacobian_layout.value[s]).data();
       const std::vector<int>& columns = tape.jacobian_layout.derivatives[s];
       for (size_t k = 0; k < columns.size(); ++k) {
-        derivative_pointers_[s][k] = jacobian_columns_.col(columns[k]).data();
+        if (columns[k] >= 0) derivative_pointers_[s][k] = jacobian_columns_.col(columns[k]).data();
       }
     }
   }
@@ -118,11 +126,10 @@ void TapeWorkspace::EvaluateWithJacobian(const Tape& tape, const Eigen::MatrixXd
   Bind(tape, x, params);
   const Slot& root_slot = tape.slots[tape.root];
   std::vector<double*>& root_derivatives = derivative_pointers_[tape.root];
-  if (tape.root_in_output) {
-    jacobian_value_pointers_[tape.root] = values;
-    for (size_t k = 0; k < root_slot.dependencies.size(); ++k) {
-      root_derivatives[k] = jacobian + static_cast<size_t>(root_slot.dependencies[k]) * n;
-    }
+  if (tape.root_in_output) jacobian_value_pointers_[tape.root] = values;
+  for (const OutputDerivative& output : output_derivatives_) {
+    derivative_pointers_[output.slot][output.index] =
+        jacobian + static_cast<size_t>(output.parameter) * n;
   }
   const int num_columns = tape.jacobian_layout.num_columns;
   double* temp_a = jacobian_columns_.col(num_columns).data();

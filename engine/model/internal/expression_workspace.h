@@ -42,6 +42,13 @@ class TapeWorkspace {
   // (slot, parameter) and (slot, predictor column) pairs of the live slots.
   std::vector<std::pair<int, int>> parameter_slots_;
   std::vector<std::pair<int, int>> column_slots_;
+  // Derivatives written straight into the caller's Jacobian: (slot, position, parameter).
+  struct OutputDerivative {
+    int slot;
+    int index;
+    int parameter;
+  };
+  std::vector<OutputDerivative> output_derivatives_;
   // Parameters the result does not depend on (left behind by a^0): zero Jacobian columns.
   std::vector<int> constant_parameters_;
 };
