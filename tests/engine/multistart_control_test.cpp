@@ -109,6 +109,9 @@ TEST_CASE("Multistart: a cancel flag set from another thread stops promptly", "[
   INFO(summary.BriefReport());
   CHECK(summary.stop == MultistartStop::kCancelled);
   CHECK(summary.num_starts_run < summary.num_starts_planned);
+  CHECK(summary.BriefReport().find("multistart cancelled: ") == 0);
+  CHECK(summary.FullReport().find("stop                cancelled (cancelled by the caller") !=
+        std::string::npos);
   CHECK(std::chrono::duration<double>(returned - cancelled_at).count() < kPromptSeconds);
   for (const StartRecord& record : summary.starts) {
     if (record.termination == Termination::kCancelled) CHECK(record.basin == -1);

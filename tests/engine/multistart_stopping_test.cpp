@@ -82,6 +82,9 @@ TEST_CASE("Multistart: the rule stops a one-basin problem long before a many-bas
   CHECK(one_basin.stop == MultistartStop::kStoppingRule);
   CHECK(one_basin.basins.size() == 1);
   CHECK(one_basin.expected_unseen_basins < RuleOptions().stopping_threshold);
+  // Evaluated at round boundaries only.
+  CHECK(one_basin.num_starts_run % RuleOptions().round_size == 0);
+  CHECK(one_basin.message.find("expected unseen basins") == 0);
 
   const testing::PointwiseModel sine = testing::SineModel();
   const Problem sine_problem = MakeProblem(
