@@ -19,7 +19,9 @@ bool FindLevelCrossing(const Eigen::VectorXd& x, const Eigen::VectorXd& s, Eigen
   for (Eigen::Index j = apex + step; step < 0 ? j >= stop : j <= stop; j += step) {
     if (s[j] < level) {
       const Eigen::Index inner = j - step;
-      const double fraction = (s[inner] - level) / (s[inner] - s[j]);
+      const double drop = s[inner] - s[j];
+      // The inner sample is at or above the level except, by rounding, right at the apex.
+      const double fraction = drop > 0.0 ? std::clamp((s[inner] - level) / drop, 0.0, 1.0) : 0.0;
       *crossing = x[inner] + fraction * (x[j] - x[inner]);
       return true;
     }
@@ -149,6 +151,9 @@ PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const Pea
     Peak peak;
     if (!MeasurePeak(x, smooth, baseline, i, &peak)) continue;
     if (peak.prominence < out.prominence_threshold) continue;
+    if (!std::isfinite(peak.center) || !std::isfinite(peak.height) || !std::isfinite(peak.fwhm)) {
+      continue;
+    }
     peak.height *= sign;
     // Crossings that share an apex are one peak: keep the crossing nearest the apex sample.
     const auto found = by_apex.find(peak.apex_index);
