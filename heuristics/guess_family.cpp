@@ -93,6 +93,7 @@ bool GuessFamily(const FamilyRequest& request, const Model& model, const Dataset
     return false;
   }
   guess::CandidateSet set(model, data, lo, hi, guess::FamilyLinearParameters(request, model));
+  set.SetCurve(&curve);
   guess::GuessContext context;
   context.request = &request;
   context.curve = &curve;

@@ -1,5 +1,6 @@
 #include "heuristics/families/guess_common.h"
 
+#include <Eigen/Cholesky>
 #include <algorithm>
 #include <cmath>
 #include <limits>
@@ -81,6 +82,28 @@ bool PrepareCurve(const Dataset& data, const std::string& family, int min_points
   curve->y_max = curve->y.maxCoeff();
   curve->num_input_points = data.NumPoints();
   return true;
+}
+
+double SolveSmallLeastSquares(const Eigen::MatrixXd& design, const Eigen::VectorXd& y,
+                              const Eigen::VectorXd& weight, Eigen::VectorXd* coefficients) {
+  const int p = static_cast<int>(design.cols());
+  Eigen::MatrixXd scaled = design;
+  Eigen::VectorXd norms(p);
+  for (int j = 0; j < p; ++j) {
+    norms[j] = std::sqrt((scaled.col(j).array().square() * weight.array()).sum());
+    if (!(norms[j] > 0) || !std::isfinite(norms[j])) return kInf;
+    scaled.col(j) /= norms[j];
+  }
+  const Eigen::MatrixXd weighted = scaled.transpose() * weight.asDiagonal();
+  const Eigen::MatrixXd normal = weighted * scaled;
+  const Eigen::LDLT<Eigen::MatrixXd> ldlt(normal);
+  // A pivot far below the unit diagonal means nearly dependent columns.
+  constexpr double kMinPivot = 1e-12;
+  if (ldlt.info() != Eigen::Success || !(ldlt.vectorD().minCoeff() > kMinPivot)) return kInf;
+  const Eigen::VectorXd solution = ldlt.solve(weighted * y);
+  *coefficients = solution.array() / norms.array();
+  const double rss = ((y - scaled * solution).array().square() * weight.array()).sum();
+  return coefficients->allFinite() && std::isfinite(rss) ? rss : kInf;
 }
 
 Curve Subsample(const Curve& curve, int max_points) {
@@ -195,11 +218,13 @@ double CandidateSet::SolveLinear(Eigen::VectorXd* parameters, const Eigen::Matri
     target += design.col(k) * (*parameters)[linear_[k]];
   }
   if (!design.allFinite() || !target.allFinite()) return kInf;
-  const signal::LinearFit fit = signal::SolveWeightedLeastSquares(design, target, weight);
-  if (!fit.IsOk() || !fit.coefficients.allFinite()) return CurveRss(*parameters, x, y, weight);
+  Eigen::VectorXd coefficients;
+  if (!std::isfinite(SolveSmallLeastSquares(design, target, weight, &coefficients))) {
+    return CurveRss(*parameters, x, y, weight);
+  }
   Eigen::VectorXd refined = *parameters;
   for (size_t k = 0; k < linear_.size(); ++k) {
-    refined[linear_[k]] = Clamp(linear_[k], fit.coefficients[k]);
+    refined[linear_[k]] = Clamp(linear_[k], coefficients[k]);
   }
   const double before = CurveRss(*parameters, x, y, weight);
   const double after = CurveRss(refined, x, y, weight);
@@ -228,13 +253,23 @@ double CandidateSet::Add(const std::string& name, Eigen::VectorXd parameters, bo
     parameters[j] = inside;
   }
   if (clamped) ++num_clamped_;
-  const double rss = refine_linear ? SolveLinear(&parameters, x_, y_, weight_) : Rss(parameters);
+  if (refine_linear) RefineLinear(&parameters, curve_);
+  const double rss = Rss(parameters);
   if (!std::isfinite(rss) || !parameters.allFinite()) {
     ++num_dropped_;
     return kInf;
   }
   candidates_.push_back({name, parameters, rss});
   return rss;
+}
+
+bool CandidateSet::Best(Eigen::VectorXd* parameters) const {
+  const GuessCandidate* best = nullptr;
+  for (const GuessCandidate& candidate : candidates_) {
+    if (best == nullptr || candidate.rss < best->rss) best = &candidate;
+  }
+  if (best != nullptr) *parameters = best->parameters;
+  return best != nullptr;
 }
 
 void CandidateSet::SetScale(int j, double scale, bool log_scale) {
@@ -296,6 +331,44 @@ bool BestOnCurve(const CandidateSet& set, const Curve& curve,
   return std::isfinite(best_rss);
 }
 
+void PolishProfile(const CandidateSet& set, const Curve& curve, const std::vector<int>& free,
+                   std::vector<double> steps, const std::vector<bool>& multiplicative,
+                   int max_evaluations, Eigen::VectorXd* parameters) {
+  // Steps below this share of their start size have converged.
+  constexpr double kMinStepShare = 1e-4;
+  Eigen::VectorXd best = *parameters;
+  double best_rss = set.RefineLinear(&best, &curve);
+  if (!std::isfinite(best_rss)) return;
+  const std::vector<double> initial = steps;
+  int evaluations = 0;
+  while (evaluations < max_evaluations) {
+    bool any_active = false;
+    for (size_t k = 0; k < free.size() && evaluations < max_evaluations; ++k) {
+      if (steps[k] < kMinStepShare * initial[k]) continue;
+      any_active = true;
+      bool improved = false;
+      for (double direction : {1.0, -1.0}) {
+        Eigen::VectorXd trial = best;
+        const int j = free[k];
+        trial[j] = multiplicative[k] ? trial[j] * std::exp(direction * steps[k])
+                                     : trial[j] + direction * steps[k];
+        if (!(trial[j] >= set.Lower()[j] && trial[j] <= set.Upper()[j])) continue;
+        const double rss = set.RefineLinear(&trial, &curve);
+        ++evaluations;
+        if (rss < best_rss) {
+          best_rss = rss;
+          best = trial;
+          improved = true;
+          break;
+        }
+      }
+      steps[k] *= improved ? 2.0 : 0.5;
+    }
+    if (!any_active) break;
+  }
+  *parameters = best;
+}
+
 namespace {
 
 // rss of the best a*exp(-x/tau) (+ c) for one tau; fills amplitude and offset.
@@ -307,13 +380,14 @@ double ExponentialRss(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
   design.col(0) = (-x.array() / tau).exp();
   if (with_offset) design.col(1).setOnes();
   if (!design.allFinite()) return kInf;
-  const signal::LinearFit fit = signal::SolveWeightedLeastSquares(design, y, weight);
-  if (!fit.IsOk()) return kInf;
+  Eigen::VectorXd coefficients;
+  const double rss = SolveSmallLeastSquares(design, y, weight, &coefficients);
+  if (!std::isfinite(rss)) return kInf;
   out->tau = tau;
-  out->amplitude = fit.coefficients[0];
-  out->offset = with_offset ? fit.coefficients[1] : 0.0;
-  out->rss = fit.rss;
-  return fit.rss;
+  out->amplitude = coefficients[0];
+  out->offset = with_offset ? coefficients[1] : 0.0;
+  out->rss = rss;
+  return rss;
 }
 
 }  // namespace

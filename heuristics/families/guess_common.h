@@ -33,7 +33,14 @@ struct Curve {
 };
 
 // Most points a guesser looks at; longer series are averaged in bins of equal count.
-constexpr int kMaxCurvePoints = 1000;
+constexpr int kMaxCurvePoints = 500;
+
+// Weighted least squares for a few well-scaled columns, as the profiles need thousands of
+// them: columns scaled to unit norm, normal equations by LDLT (adequate for starting
+// guesses, not for final answers). Returns the weighted rss, +inf when singular or not
+// finite; coefficients in the unscaled columns.
+double SolveSmallLeastSquares(const Eigen::MatrixXd& design, const Eigen::VectorXd& y,
+                              const Eigen::VectorXd& weight, Eigen::VectorXd* coefficients);
 
 // Sorts, merges and bins data's "x" column and response. False with a message when x or
 // the response is unusable (fewer than min_points distinct x, x all equal).
@@ -63,6 +70,10 @@ class CandidateSet {
                const Eigen::VectorXd& upper, std::vector<int> linear);
 
   int NumParameters() const { return num_parameters_; }
+  const Model& GetModel() const { return model_; }
+  // The prepared curve on which Add solves the linear parameters (the full data when
+  // unset); candidates are always scored on the full data.
+  void SetCurve(const Curve* curve) { curve_ = curve; }
   const Eigen::VectorXd& Lower() const { return lower_; }
   const Eigen::VectorXd& Upper() const { return upper_; }
 
@@ -74,6 +85,9 @@ class CandidateSet {
   // Solves the linear parameters for the nonlinear ones in `parameters` on `curve` (or on
   // the full data when curve is null) and returns the rss there; +inf on failure.
   double RefineLinear(Eigen::VectorXd* parameters, const Curve* curve) const;
+
+  // The lowest-rss candidate so far (false when there is none).
+  bool Best(Eigen::VectorXd* parameters) const;
 
   // Typical magnitude and sampling hint of parameter j (defaults: |best value|, linear).
   void SetScale(int j, double scale, bool log_scale);
@@ -92,6 +106,7 @@ class CandidateSet {
                      const Eigen::VectorXd& y, const Eigen::VectorXd& weight) const;
 
   const Model& model_;
+  const Curve* curve_ = nullptr;
   int num_parameters_ = 0;
   Eigen::MatrixXd x_;  // n x 1, the data's "x"
   Eigen::VectorXd y_;
@@ -112,6 +127,15 @@ class CandidateSet {
 // there (a profile over the nonlinear ones). False when none is finite.
 bool BestOnCurve(const CandidateSet& set, const Curve& curve,
                  const std::vector<Eigen::VectorXd>& starts, Eigen::VectorXd* best);
+
+// Compass (pattern) search of the nonlinear parameters `free` of *parameters on `curve`,
+// the linear ones solved at every trial: each step tries +-step_j, grows a step that
+// helps by 2 and halves one that does not, for at most max_evaluations trials. Steps of
+// parameters flagged multiplicative scale the value by exp(+-step) instead. Used where a
+// grid leaves the start in a long, curved valley.
+void PolishProfile(const CandidateSet& set, const Curve& curve, const std::vector<int>& free,
+                   std::vector<double> steps, const std::vector<bool>& multiplicative,
+                   int max_evaluations, Eigen::VectorXd* parameters);
 
 // Single exponential a*exp(-x/tau) (+ c when with_offset) by a profile over tau in
 // [tau_lo, tau_hi] (log grid, then a golden refinement), amplitude and offset by weighted

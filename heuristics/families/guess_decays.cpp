@@ -27,6 +27,9 @@ constexpr double kTailShare = 0.1;
 constexpr double kLateStart = 0.35;
 constexpr double kEarlyEnd = 0.35;
 constexpr int kProfilePoints = 250;
+constexpr int kPolishEvaluations = 100;
+// The pencil's SVD costs O(N^3): a few hundred resampled points carry the rates.
+constexpr int kPencilSamples = 200;
 
 // Times measured from the first x, as the decays' amplitudes are values at x = 0.
 struct Window {
@@ -66,6 +69,7 @@ void GuessExpDecay(const Curve& curve, CandidateSet* set) {
   }
   signal::MatrixPencilOptions pencil_options;
   pencil_options.fit_offset = true;
+  pencil_options.max_samples = kPencilSamples;
   const signal::ExponentialSum pencil = signal::FitExponentialSum(curve.x, curve.y, pencil_options);
   if (pencil.IsOk() && !pencil.terms.empty()) {
     set->Add("pencil",
@@ -87,6 +91,7 @@ void GuessBiexpDecay(const Curve& curve, CandidateSet* set) {
   signal::MatrixPencilOptions pencil_options;
   pencil_options.num_exponentials = 2;
   pencil_options.fit_offset = true;
+  pencil_options.max_samples = kPencilSamples;
   const signal::ExponentialSum pencil = signal::FitExponentialSum(curve.x, curve.y, pencil_options);
   if (pencil.IsOk() && pencil.terms.size() == 2) {
     Eigen::VectorXd p(5);
@@ -124,6 +129,11 @@ void GuessBiexpDecay(const Curve& curve, CandidateSet* set) {
   }
   Eigen::VectorXd best;
   if (BestOnCurve(*set, sub, starts, &best)) set->Add("profile", best);
+  // Pattern search of both lifetimes (in log) from the best candidate so far.
+  if (set->Best(&best)) {
+    PolishProfile(*set, curve, {1, 3}, {0.3, 0.3}, {true, true}, kPolishEvaluations, &best);
+    set->Add("polished", best);
+  }
   set->SetScale(0, curve.YSpan(), false);
   set->SetScale(1, span / 10, true);
   set->SetScale(2, curve.YSpan(), false);
@@ -166,6 +176,10 @@ void GuessStretchedExp(const Curve& curve, CandidateSet* set) {
   }
   Eigen::VectorXd best;
   if (BestOnCurve(*set, sub, all, &best)) set->Add("profile", best);
+  if (set->Best(&best)) {
+    PolishProfile(*set, curve, {1, 2}, {0.3, 0.2}, {true, true}, kPolishEvaluations, &best);
+    set->Add("polished", best);
+  }
   set->SetScale(0, curve.YSpan(), false);
   set->SetScale(1, span / 3, true);
   set->SetScale(2, 1.0, true);

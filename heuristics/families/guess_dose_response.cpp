@@ -8,8 +8,10 @@
 
 #include <algorithm>
 #include <cmath>
+#include <limits>
 #include <vector>
 
+#include "engine/solve/levenberg_marquardt.h"
 #include "heuristics/families/guess_families.h"
 #include "heuristics/signal/linear_fit.h"
 #include "heuristics/signal/linearise.h"
@@ -21,6 +23,8 @@ namespace {
 constexpr double kLn10 = 2.302585092994046;
 constexpr double kPlateauShare = 0.15;
 constexpr int kProfilePoints = 250;
+// Iterations of each coarse logistic5 run on the subsampled curve.
+constexpr int kCoarseIterations = 50;
 
 // Running mean over about 2% of the points either side, for crossings and slopes.
 Eigen::VectorXd RunningMean(const Eigen::VectorXd& y) {
@@ -61,7 +65,51 @@ double MidSlope(const Curve& curve, const Eigen::VectorXd& smooth, double low, d
   return line.IsOk() && line.slope != 0 ? line.slope : (high - low) / curve.XSpan();
 }
 
-void GuessLogistic(const Curve& curve, bool five, CandidateSet* set) {
+// logistic5: with asymmetry != 1 the mirrored reading (top, bottom, -hill) is a different
+// curve with its own basin, and asymmetry trades against log_ec50 and hill along a long
+// curved valley that grids and pattern searches follow poorly. So for both readings and a
+// few asymmetries (the midpoint kept where the data put it), a short Levenberg-Marquardt
+// run on the subsampled curve (a coarse, cheap problem) walks the valley; the best end of
+// each reading becomes a candidate, scored like every other on the full data.
+void ScanAsymmetry(const Curve& sub, const Eigen::VectorXd& symmetric, CandidateSet* set,
+                   const Model& model) {
+  const double mid_x =
+      symmetric[2] - std::log10(std::pow(2.0, 1.0 / symmetric[4]) - 1.0) / symmetric[3];
+  Problem problem;
+  problem.model = &model;
+  problem.data.predictor_names = {"x"};
+  problem.data.predictors = sub.x;
+  problem.data.response = sub.y;
+  problem.data.sigma = sub.weight.array().rsqrt();
+  problem.lower = set->Lower();
+  problem.upper = set->Upper();
+  LevenbergMarquardtOptions options;
+  options.max_iterations = kCoarseIterations;
+  for (double reading : {1.0, -1.0}) {
+    Eigen::VectorXd best;
+    double best_cost = std::numeric_limits<double>::infinity();
+    for (double s : {0.5, 1.0, 2.0}) {
+      Eigen::VectorXd p = symmetric;
+      if (reading < 0) {
+        p[0] = symmetric[1];
+        p[1] = symmetric[0];
+        p[3] = -symmetric[3];
+      }
+      p[4] = s;
+      p[2] = mid_x + std::log10(std::pow(2.0, 1.0 / s) - 1.0) / p[3];
+      set->RefineLinear(&p, &sub);
+      const LocalFitSummary fit = MinimizeLevenbergMarquardt(problem, p, options);
+      if (std::isfinite(fit.final_cost) && fit.final_cost < best_cost &&
+          fit.parameters.allFinite()) {
+        best_cost = fit.final_cost;
+        best = fit.parameters;
+      }
+    }
+    if (best.size() != 0) set->Add(reading > 0 ? "coarse_fit" : "coarse_fit_mirror", best);
+  }
+}
+
+void GuessLogistic(const Curve& curve, bool five, CandidateSet* set, const Model& model) {
   const Eigen::VectorXd smooth = RunningMean(curve.y);
   const double left = HeadMean(curve, kPlateauShare);
   const double right = TailMean(curve, kPlateauShare);
@@ -100,17 +148,16 @@ void GuessLogistic(const Curve& curve, bool five, CandidateSet* set) {
   for (double c : centers) {
     for (double h : slopes) {
       for (double sign : {-1.0, 1.0}) {
-        for (double s : five ? std::vector<double>{0.5, 1.0, 2.0} : std::vector<double>{1.0}) {
-          Eigen::VectorXd p(five ? 5 : 4);
-          p.head<4>() << q_low, q_high, c, sign * h;
-          if (five) p[4] = s;
-          starts.push_back(p);
-        }
+        Eigen::VectorXd p(five ? 5 : 4);
+        p.head<4>() << q_low, q_high, c, sign * h;
+        if (five) p[4] = 1.0;
+        starts.push_back(p);
       }
     }
   }
   Eigen::VectorXd best;
   if (BestOnCurve(*set, sub, starts, &best)) set->Add("profile", best);
+  if (five && set->Best(&best)) ScanAsymmetry(sub, best, set, model);
   set->SetScale(0, curve.YSpan(), false);
   set->SetScale(1, curve.YSpan(), false);
   set->SetScale(2, std::max(span / 4, std::abs(curve.x_min + 0.5 * span)), false);
@@ -230,8 +277,8 @@ bool GuessDoseResponseFamily(const GuessContext& context, std::string* error) {
              std::to_string(curve.NumPoints()) +
              " responses are negative, but the family is >= 0 for x >= 0; the guess is poor");
   }
-  if (name == "logistic4") GuessLogistic(curve, false, &set);
-  if (name == "logistic5") GuessLogistic(curve, true, &set);
+  if (name == "logistic4") GuessLogistic(curve, false, &set, context.set->GetModel());
+  if (name == "logistic5") GuessLogistic(curve, true, &set, context.set->GetModel());
   if (name == "michaelis_menten") GuessMichaelisMenten(curve, &set);
   if (name == "hill_binding") GuessHillBinding(curve, &set);
   return true;

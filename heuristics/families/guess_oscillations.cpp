@@ -20,7 +20,7 @@ namespace guess {
 namespace {
 
 constexpr double kTwoPi = 6.283185307179586;
-constexpr int kProfilePoints = 400;
+constexpr int kProfilePoints = 250;
 constexpr int kGoldenSteps = 25;
 
 struct Sinusoid {
@@ -42,12 +42,13 @@ Sinusoid FitAt(const Curve& curve, double frequency, double tau) {
   Sinusoid out;
   out.rss = std::numeric_limits<double>::infinity();
   if (!design.allFinite()) return out;
-  const signal::LinearFit fit = signal::SolveWeightedLeastSquares(design, curve.y, curve.weight);
-  if (!fit.IsOk()) return out;
-  out.amplitude = std::hypot(fit.coefficients[0], fit.coefficients[1]);
-  out.phase = std::atan2(fit.coefficients[1], fit.coefficients[0]);
-  out.baseline = fit.coefficients[2];
-  out.rss = fit.rss;
+  Eigen::VectorXd c;
+  const double rss = SolveSmallLeastSquares(design, curve.y, curve.weight, &c);
+  if (!std::isfinite(rss)) return out;
+  out.amplitude = std::hypot(c[0], c[1]);
+  out.phase = std::atan2(c[1], c[0]);
+  out.baseline = c[2];
+  out.rss = rss;
   return out;
 }
 

@@ -54,11 +54,12 @@ double SolveHeights(const Curve& curve, Shape shape, std::vector<Seed>* seeds, d
     }
     design(i, k) = 1.0;
   }
-  const signal::LinearFit fit = signal::SolveWeightedLeastSquares(design, curve.y, curve.weight);
-  if (!fit.IsOk()) return std::numeric_limits<double>::infinity();
-  for (int m = 0; m < k; ++m) (*seeds)[m].height = fit.coefficients[m];
-  *baseline = fit.coefficients[k];
-  return fit.rss;
+  Eigen::VectorXd coefficients;
+  const double rss = SolveSmallLeastSquares(design, curve.y, curve.weight, &coefficients);
+  if (!std::isfinite(rss)) return rss;
+  for (int m = 0; m < k; ++m) (*seeds)[m].height = coefficients[m];
+  *baseline = coefficients[k];
+  return rss;
 }
 
 // The next seed at the largest residual of the current seeds (in the peaks' direction),
@@ -144,6 +145,30 @@ Seed MomentSeed(const Curve& curve, double sign, double min_fwhm) {
   return {center, std::max(fwhm, min_fwhm), sign * (y.maxCoeff() - base)};
 }
 
+// k seeds over the signal above a low quantile: the m-th center at the (m + 1/2) / k
+// quantile of its area, each as wide as its share of the central 90% of the area.
+std::vector<Seed> SpreadSeeds(const Curve& curve, double sign, int k, double min_fwhm) {
+  const Eigen::VectorXd y = sign * curve.y;
+  const double base = Quantile(y, 0.1);
+  const int n = curve.NumPoints();
+  Eigen::VectorXd cumulative(n);
+  double sum = 0;
+  for (int i = 0; i < n; ++i) {
+    sum += std::max(y[i] - base, 0.0);
+    cumulative[i] = sum;
+  }
+  std::vector<Seed> seeds;
+  if (!(sum > 0)) return seeds;
+  cumulative /= sum;
+  const double lo = Interpolate(cumulative, curve.x, 0.05);
+  const double hi = Interpolate(cumulative, curve.x, 0.95);
+  const double fwhm = std::max((hi - lo) / k, min_fwhm);
+  for (int m = 0; m < k; ++m) {
+    seeds.push_back({Interpolate(cumulative, curve.x, (m + 0.5) / k), fwhm, 0});
+  }
+  return seeds;
+}
+
 // Lorentzian fraction from the relative height one FWHM either side of the center.
 double TailEta(const Curve& curve, const Seed& seed, double baseline) {
   if (seed.height == 0) return 0.5;
@@ -215,11 +240,23 @@ bool GuessPeakFamily(const GuessContext& context, std::string* error) {
     set.Add("flat", ToParameters(family, seeds, curve.y_min, 0.5), false);
     return true;
   }
-  // Direction: peaks or dips, whichever stands further from the median.
-  const double median = Quantile(curve.y, 0.5);
-  const double sign = curve.y_max - median >= median - curve.y_min ? 1.0 : -1.0;
+  // Direction: peaks or dips, whichever single apex explains more of the data.
+  const Shape solve_shape =
+      family.shape == Shape::kLorentzian ? Shape::kLorentzian : Shape::kGaussian;
+  double sign = 1.0;
+  {
+    std::vector<Seed> up = {HalfHeightSeed(curve, 1.0, min_fwhm)};
+    std::vector<Seed> down = {HalfHeightSeed(curve, -1.0, min_fwhm)};
+    double baseline = 0;
+    const double rss_up = SolveHeights(curve, solve_shape, &up, &baseline);
+    const double rss_down = SolveHeights(curve, solve_shape, &down, &baseline);
+    if (rss_down < rss_up && down[0].height < 0) sign = -1.0;
+  }
   signal::PeakOptions options;
   options.negative = sign < 0;
+  // Windows beyond 2 x 15 + 1 points of the (at most kMaxCurvePoints) curve add cost, not
+  // information, for the widths the guess needs.
+  options.smoothing.max_auto_half_window = 15;
   const signal::PeakList found = signal::FindPeaks(curve.x, curve.y, options);
   std::vector<Seed> detected;
   if (found.IsOk()) {
@@ -270,7 +307,10 @@ bool GuessPeakFamily(const GuessContext& context, std::string* error) {
       Propose(curve, family, "mixed_shape", {detected[0]}, &set, 0.5);
       Propose(curve, family, "lorentzian_shape", {detected[0]}, &set, 1.0);
     }
-  } else if (detected.size() > static_cast<size_t>(k)) {
+  } else {
+    Propose(curve, family, "spread", SpreadSeeds(curve, sign, k, min_fwhm), &set);
+  }
+  if (k > 1 && detected.size() > static_cast<size_t>(k)) {
     // The k most prominent may include a noise bump: also try the k widest-spread subset
     // made of the top k - 1 plus the widest split.
     std::vector<Seed> alternative(detected.begin(), detected.begin() + (k - 1));
