@@ -15,41 +15,60 @@ namespace {
 
 constexpr int kMinOrder = 2;
 constexpr int kMaxOrder = 4;
+// SavitzkyGolayWeights accepts higher orders than the smoother; beyond this the monomial
+// Gram matrix is too ill-conditioned to trust.
+constexpr int kMaxWeightsOrder = 8;
 // Growth factor of the automatic half-window search.
 constexpr double kWindowGrowth = 1.25;
 
-// Gram matrix inverse columns for the local fit: rows d = 0..2 of (V^T V)^-1 V^T give the
-// weights of the value and the first two Taylor coefficients.
+// Rows d = 0..2 of (V^T V)^-1 V^T for the local Vandermonde matrix V: the weights of the
+// value and the first two Taylor coefficients. The buffers are reused from window to window
+// so that the smoothing loop does not allocate.
 struct LocalWeights {
   Eigen::MatrixXd rows;  // 3 x w (rows beyond the order are zero)
   double scale = 1.0;    // s in t = (x - x_eval) / s
+  Eigen::VectorXd t;
+  Eigen::VectorXd power_sums;
+  Eigen::MatrixXd gram;
+  Eigen::MatrixXd inverse;
+  Eigen::LDLT<Eigen::MatrixXd> ldlt;
 };
 
-// Fills `out` for the window x[lo..hi] evaluated at x_eval. Rows for derivatives above
-// `order` are zero. Returns false if the Gram matrix is singular (duplicate x).
+// Fills `out` for the w window abscissae evaluated at x_eval. Returns false if the Gram
+// matrix is numerically singular (too few distinct x for the order).
 bool ComputeLocalWeights(const double* window_x, Eigen::Index w, double x_eval, int order,
                          LocalWeights* out) {
   double scale = 0.0;
   for (Eigen::Index j = 0; j < w; ++j) scale = std::max(scale, std::abs(window_x[j] - x_eval));
   if (!(scale > 0.0)) return false;
   const int p = order + 1;
-  Eigen::MatrixXd vandermonde(w, p);
+  // V^T V is the Hankel matrix of the power sums sum_j t_j^m, m = 0..2 order.
+  out->t.resize(w);
+  out->power_sums.setZero(2 * p - 1);
   for (Eigen::Index j = 0; j < w; ++j) {
     const double t = (window_x[j] - x_eval) / scale;
+    out->t[j] = t;
     double power = 1.0;
-    for (int k = 0; k < p; ++k, power *= t) vandermonde(j, k) = power;
+    for (int m = 0; m < 2 * p - 1; ++m, power *= t) out->power_sums[m] += power;
   }
-  const Eigen::MatrixXd gram = vandermonde.transpose() * vandermonde;
-  Eigen::LDLT<Eigen::MatrixXd> ldlt(gram);
-  if (ldlt.info() != Eigen::Success ||
-      ldlt.rcond() < 1e3 * std::numeric_limits<double>::epsilon()) {
+  out->gram.resize(p, p);
+  for (int a = 0; a < p; ++a) {
+    for (int b = 0; b < p; ++b) out->gram(a, b) = out->power_sums[a + b];
+  }
+  out->ldlt.compute(out->gram);
+  if (out->ldlt.info() != Eigen::Success ||
+      out->ldlt.rcond() < 1e3 * std::numeric_limits<double>::epsilon()) {
     return false;
   }
+  out->inverse = out->ldlt.solve(Eigen::MatrixXd::Identity(p, p));
   const int num_rows = std::min(3, p);
-  const Eigen::MatrixXd inverse_rows =
-      ldlt.solve(Eigen::MatrixXd::Identity(p, p)).leftCols(num_rows);  // symmetric
-  out->rows = Eigen::MatrixXd::Zero(3, w);
-  out->rows.topRows(num_rows) = (vandermonde * inverse_rows).transpose();
+  out->rows.setZero(3, w);
+  for (Eigen::Index j = 0; j < w; ++j) {
+    double power = 1.0;
+    for (int k = 0; k < p; ++k, power *= out->t[j]) {
+      for (int d = 0; d < num_rows; ++d) out->rows(d, j) += out->inverse(d, k) * power;
+    }
+  }
   out->scale = scale;
   return true;
 }
@@ -168,9 +187,10 @@ SmoothedCurve SmoothSavitzkyGolay(const Eigen::VectorXd& x, const Eigen::VectorX
 bool SavitzkyGolayWeights(const Eigen::VectorXd& window_x, double x_eval, int order, int derivative,
                           Eigen::VectorXd* weights, std::string* error) {
   std::ostringstream text;
-  if (order < 0 || derivative < 0 || derivative > order || derivative > 2) {
+  if (order < 0 || order > kMaxWeightsOrder || derivative < 0 || derivative > order ||
+      derivative > 2) {
     text << "derivative = " << derivative << ", order = " << order
-         << ": need 0 <= derivative <= min(order, 2)";
+         << ": need 0 <= order <= " << kMaxWeightsOrder << " and 0 <= derivative <= min(order, 2)";
   } else if (window_x.size() < order + 1 || !window_x.allFinite()) {
     text << "window of " << window_x.size() << " finite x values: need at least " << order + 1;
   }

@@ -60,7 +60,8 @@ SmoothedCurve SmoothSavitzkyGolay(const Eigen::VectorXd& x, const Eigen::VectorX
 
 // Weights w with sum_j w_j y_j = the `derivative`-th derivative, at x_eval, of the
 // least-squares polynomial of degree `order` through (window_x, y). window_x needs at
-// least order + 1 distinct values; derivative in [0, order]. False with a message otherwise.
+// least order + 1 distinct values; order in [0, 8], derivative in [0, min(order, 2)]. False
+// with a message otherwise.
 bool SavitzkyGolayWeights(const Eigen::VectorXd& window_x, double x_eval, int order, int derivative,
                           Eigen::VectorXd* weights, std::string* error);
 
