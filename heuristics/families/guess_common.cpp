@@ -311,7 +311,12 @@ bool CandidateSet::Finish(const std::string& family, const GuessOptions& options
   result.upper = upper_;
   result.scale = scale_;
   result.log_scale = log_scale_;
-  result.warnings = warnings_;
+  for (const std::string& warning : warnings_) {
+    if (std::find(result.warnings.begin(), result.warnings.end(), warning) ==
+        result.warnings.end()) {
+      result.warnings.push_back(warning);
+    }
+  }
   *out = std::move(result);
   return true;
 }

@@ -81,8 +81,11 @@ Seed ResidualSeed(const Curve& curve, Shape shape, const std::vector<Seed>& seed
     const int lo = std::max(0, i - half), hi = std::min(n - 1, i + half);
     smooth[i] = residual.segment(lo, hi - lo + 1).mean();
   }
+  // The outermost points hold baseline misfit more often than a peak: skip them.
+  const int margin = std::min(std::max(1, n / 50), (n - 1) / 2);
   Eigen::Index apex = 0;
-  smooth.maxCoeff(&apex);
+  smooth.segment(margin, n - 2 * margin).maxCoeff(&apex);
+  apex += margin;
   const double level = 0.5 * smooth[apex];
   Eigen::Index left = apex, right = apex;
   while (left > 0 && smooth[left] > level) --left;
@@ -224,34 +227,12 @@ PeakFamily Classify(const FamilyRequest& request, int num_parameters) {
 
 }  // namespace
 
-bool GuessPeakFamily(const GuessContext& context, std::string* error) {
-  const Curve& curve = *context.curve;
-  CandidateSet& set = *context.set;
-  const PeakFamily family = Classify(*context.request, set.NumParameters());
+// Every candidate for peaks of one direction (sign +1 peaks, -1 dips); returns the seeds
+// detected, strongest first (at least one).
+std::vector<Seed> ProposeForSign(const Curve& curve, const PeakFamily& family, double sign,
+                                 double min_fwhm, CandidateSet* set_pointer) {
+  CandidateSet& set = *set_pointer;
   const int k = family.num_peaks;
-  const int n = curve.NumPoints();
-  const double min_fwhm = 2.0 * curve.XSpan() / std::max(n - 1, 1);
-  if (curve.IsConstant()) {
-    set.Warn("constant response: peak heights guessed as 0, centers spread over the x range");
-    std::vector<Seed> seeds;
-    for (int m = 0; m < k; ++m) {
-      seeds.push_back({curve.x_min + (m + 0.5) / k * curve.XSpan(), curve.XSpan() / (2.0 * k), 0});
-    }
-    set.Add("flat", ToParameters(family, seeds, curve.y_min, 0.5), false);
-    return true;
-  }
-  // Direction: peaks or dips, whichever single apex explains more of the data.
-  const Shape solve_shape =
-      family.shape == Shape::kLorentzian ? Shape::kLorentzian : Shape::kGaussian;
-  double sign = 1.0;
-  {
-    std::vector<Seed> up = {HalfHeightSeed(curve, 1.0, min_fwhm)};
-    std::vector<Seed> down = {HalfHeightSeed(curve, -1.0, min_fwhm)};
-    double baseline = 0;
-    const double rss_up = SolveHeights(curve, solve_shape, &up, &baseline);
-    const double rss_down = SolveHeights(curve, solve_shape, &down, &baseline);
-    if (rss_down < rss_up && down[0].height < 0) sign = -1.0;
-  }
   signal::PeakOptions options;
   options.negative = sign < 0;
   // Windows beyond 2 x 15 + 1 points of the (at most kMaxCurvePoints) curve add cost, not
@@ -317,6 +298,44 @@ bool GuessPeakFamily(const GuessContext& context, std::string* error) {
     SplitWidest(&alternative);
     Propose(curve, family, "split", alternative, &set);
   }
+
+  return detected;
+}
+
+bool GuessPeakFamily(const GuessContext& context, std::string* error) {
+  const Curve& curve = *context.curve;
+  CandidateSet& set = *context.set;
+  const PeakFamily family = Classify(*context.request, set.NumParameters());
+  const int k = family.num_peaks;
+  const int n = curve.NumPoints();
+  const double min_fwhm = 2.0 * curve.XSpan() / std::max(n - 1, 1);
+  if (curve.IsConstant()) {
+    set.Warn("constant response: peak heights guessed as 0, centers spread over the x range");
+    std::vector<Seed> seeds;
+    for (int m = 0; m < k; ++m) {
+      seeds.push_back({curve.x_min + (m + 0.5) / k * curve.XSpan(), curve.XSpan() / (2.0 * k), 0});
+    }
+    set.Add("flat", ToParameters(family, seeds, curve.y_min, 0.5), false);
+    return true;
+  }
+  // Direction: peaks or dips, whichever single apex explains more of the data.
+  const Shape solve_shape =
+      family.shape == Shape::kLorentzian ? Shape::kLorentzian : Shape::kGaussian;
+  double sign = 1.0;
+  {
+    std::vector<Seed> up = {HalfHeightSeed(curve, 1.0, min_fwhm)};
+    std::vector<Seed> down = {HalfHeightSeed(curve, -1.0, min_fwhm)};
+    double baseline = 0;
+    const double rss_up = SolveHeights(curve, solve_shape, &up, &baseline);
+    const double rss_down = SolveHeights(curve, solve_shape, &down, &baseline);
+    if (rss_down < rss_up && down[0].height < 0) sign = -1.0;
+  }
+  // The mean stands above the median for peaks and below it for dips; when that reading
+  // and the single-apex one disagree, both directions are proposed and rss decides.
+  const std::vector<Seed> detected = ProposeForSign(curve, family, sign, min_fwhm, &set);
+  const double skew_sign = curve.y.mean() >= Quantile(curve.y, 0.5) ? 1.0 : -1.0;
+  if (skew_sign != sign) ProposeForSign(curve, family, -sign, min_fwhm, &set);
+  const double default_fwhm = detected[0].fwhm;
 
   // Scales: heights from the y range, centers and widths from the peak widths.
   const double y_scale = std::max(curve.YSpan(), std::abs(curve.y_max));

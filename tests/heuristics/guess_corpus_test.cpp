@@ -7,6 +7,7 @@
 #include <chrono>
 #include <cmath>
 #include <cstdio>
+#include <cstdlib>
 #include <ctime>
 #include <map>
 #include <sstream>
@@ -85,8 +86,13 @@ CaseOutcome RunCase(const corpus::CorpusCase& c) {
 
 TEST_CASE("GuessFamily corpus: one fit from the best guess reaches the reference optimum",
           "[heuristics]") {
-  const std::vector<corpus::CorpusCase> cases =
-      corpus::GenerateCorpus(kCorpusSeed, kCasesPerFamily);
+  // FOOTHOLD_CORPUS_SEED and FOOTHOLD_CORPUS_CASES explore other corpora; the fixed seed
+  // and count are what CI checks.
+  const char* seed_text = std::getenv("FOOTHOLD_CORPUS_SEED");
+  const char* cases_text = std::getenv("FOOTHOLD_CORPUS_CASES");
+  const uint64_t seed = seed_text != nullptr ? std::strtoull(seed_text, nullptr, 10) : kCorpusSeed;
+  const int num_cases = cases_text != nullptr ? std::atoi(cases_text) : kCasesPerFamily;
+  const std::vector<corpus::CorpusCase> cases = corpus::GenerateCorpus(seed, num_cases);
   std::map<std::string, int> reached, total;
   std::map<std::string, double> family_guess_seconds, family_fit_seconds;
   std::vector<std::string> order;
