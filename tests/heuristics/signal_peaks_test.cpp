@@ -130,6 +130,28 @@ TEST_CASE("FindPeaks: dense random sampling with flat, jittery tops", "[heuristi
   CHECK(found.peaks[1].fwhm == Approx(kFwhmPerSigma * 0.8).epsilon(kRelativeFwhmTolerance));
 }
 
+TEST_CASE("FindPeaks: overlapped peaks report prominence below height", "[heuristics]") {
+  // Two sigma-2 Gaussians 3 sigma apart: the smaller one's valley towards the larger stays
+  // above its half height, so its width falls back to the half-prominence level.
+  const std::vector<GaussianPeak> truth = {{5.0, 40.0, 2.0}, {3.0, 46.0, 2.0}};
+  std::mt19937 rng(3);
+  std::normal_distribution<double> noise(0.0, kNoise);
+  const int n = 1000;
+  const Eigen::VectorXd x = Eigen::VectorXd::LinSpaced(n, 0.0, 100.0);
+  Eigen::VectorXd y(n);
+  for (int i = 0; i < n; ++i) y[i] = Evaluate(truth, 1.0, 0.0, x[i]) + noise(rng);
+  const PeakList found = FindPeaks(x, y);
+  REQUIRE(found.IsOk());
+  REQUIRE(found.peaks.size() == 2);
+  const Peak& shoulder = found.peaks[1];
+  CHECK(shoulder.center == Approx(46.0).margin(0.5));  // pulled towards the larger peak
+  CHECK(shoulder.prominence < 0.5 * shoulder.height);
+  CHECK(shoulder.is_width_from_prominence);
+  CHECK(shoulder.fwhm > 0.0);
+  CHECK(shoulder.left_index > found.peaks[0].apex_index);  // its base is the valley
+  CHECK_FALSE(found.peaks[0].is_width_from_prominence);
+}
+
 TEST_CASE("FindPeaks: max_peaks keeps the most prominent", "[heuristics]") {
   const PreparedCurve curve = MakeCurve(kThreePeaks, 1.0, 0.05, 99);
   PeakOptions options;
