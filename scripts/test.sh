@@ -15,6 +15,9 @@ cd "${repo_root}"
 
 build_dir="${FOOTHOLD_BUILD_DIR:-build}"
 jobs="${FOOTHOLD_JOBS:-2}"
+# ccache keys on the command line, which holds absolute paths; relative to the checkout,
+# a fresh clone elsewhere (as CI makes) still hits the objects compiled before.
+export CCACHE_BASEDIR="${CCACHE_BASEDIR:-${repo_root}}"
 
 bash scripts/setup.sh
 
