@@ -1,0 +1,310 @@
+// GuessGeneric: starting guesses for an arbitrary model (usually an expression). The
+// parameters that enter linearly are solved by linear least squares (variable projection)
+// for each sampled value of the others; those are sampled on a deterministic design built
+// from the data scales and the bounds; the best design points are polished by a few
+// Levenberg–Marquardt iterations. docs/generic-guesser.md describes the choices.
+
+#include <algorithm>
+#include <cmath>
+#include <limits>
+#include <memory>
+#include <sstream>
+
+#include "engine/solve/local_fit.h"
+#include "engine/solve/variable_projection.h"
+#include "heuristics/guess.h"
+#include "heuristics/internal/generic_design.h"
+
+namespace foothold {
+namespace {
+
+constexpr double kInf = std::numeric_limits<double>::infinity();
+// Design points evaluated (each one model evaluation and one small QR).
+constexpr int kDesignBudget = 1024;
+// Best distinct design points polished, and the iterations each polish may take.
+constexpr int kNumPolished = 6;
+constexpr int kPolishIterations = 40;
+// Candidates closer than this in rss (relative) and in every parameter are one candidate.
+constexpr double kDuplicateTolerance = 1e-6;
+// A positive bounded parameter whose range spans more than this ratio is log-scaled.
+constexpr double kLogSpanRatio = 100;
+
+bool Fail(std::string* error, const std::string& message) {
+  if (error != nullptr) *error = message;
+  return false;
+}
+
+// Rejects what no guess can work with: invalid options, data, bounds; too few points;
+// predictors that never vary.
+bool ValidateInputs(const Model& model, const Dataset& data, const Eigen::VectorXd& lower,
+                    const Eigen::VectorXd& upper, const GuessOptions& options, Dataset* selected,
+                    std::string* error) {
+  const int p = model.NumParameters();
+  const auto& names = model.ParameterNames();
+  if (!options.Validate(error)) return false;
+  if (!data.Validate(error)) return false;
+  if (!data.SelectPredictors(model.PredictorNames(), selected, error)) return false;
+  if (lower.size() != 0 && lower.size() != p) {
+    return Fail(error, "lower bounds have " + std::to_string(lower.size()) + " entries, expected " +
+                           std::to_string(p));
+  }
+  if (upper.size() != 0 && upper.size() != p) {
+    return Fail(error, "upper bounds have " + std::to_string(upper.size()) + " entries, expected " +
+                           std::to_string(p));
+  }
+  for (int j = 0; j < p; ++j) {
+    const double lo = lower.size() ? lower[j] : -kInf;
+    const double hi = upper.size() ? upper[j] : kInf;
+    if (std::isnan(lo) || std::isnan(hi))
+      return Fail(error, "bounds of '" + names[j] + "' are not numbers");
+    if (lo > hi) {
+      std::ostringstream message;
+      message << "bounds of '" << names[j] << "': lower " << lo << " > upper " << hi;
+      return Fail(error, message.str());
+    }
+  }
+  if (selected->NumPoints() < p) {
+    return Fail(error, std::to_string(selected->NumPoints()) + " data points but " +
+                           std::to_string(p) +
+                           " parameters: need at least as many points as parameters");
+  }
+  bool any_varies = selected->predictors.cols() == 0;
+  for (Eigen::Index c = 0; c < selected->predictors.cols(); ++c) {
+    const auto column = selected->predictors.col(c);
+    any_varies = any_varies || column.maxCoeff() > column.minCoeff();
+  }
+  if (!any_varies) {
+    std::ostringstream message;
+    message << "predictor '" << selected->predictor_names[0] << "' is constant (every value "
+            << selected->predictors(0, 0) << "): the parameters cannot be told apart";
+    return Fail(error, message.str());
+  }
+  return true;
+}
+
+generic::DataScales ComputeScales(const Dataset& data) {
+  generic::DataScales scales;
+  double x_scale = 0;
+  for (Eigen::Index c = 0; c < data.predictors.cols(); ++c) {
+    const auto column = data.predictors.col(c);
+    x_scale =
+        std::max({x_scale, column.maxCoeff() - column.minCoeff(), column.cwiseAbs().maxCoeff()});
+  }
+  if (data.predictors.cols() > 0) {
+    scales.x_min = data.predictors.col(0).minCoeff();
+    scales.x_max = data.predictors.col(0).maxCoeff();
+  }
+  const auto& y = data.response;
+  const double y_scale = std::max(y.maxCoeff() - y.minCoeff(), y.cwiseAbs().maxCoeff());
+  scales.x_scale = x_scale > 0 ? x_scale : 1;
+  scales.y_scale = y_scale > 0 ? y_scale : 1;
+  const double candidates[] = {1.0, scales.x_scale, 1 / scales.x_scale, scales.y_scale,
+                               1 / scales.y_scale};
+  scales.min_scale = *std::min_element(std::begin(candidates), std::end(candidates));
+  scales.max_scale = *std::max_element(std::begin(candidates), std::end(candidates));
+  return scales;
+}
+
+// Cost of a sampled point: the projected rss when linear parameters are solved, else the
+// plain rss. Full() returns the whole parameter vector.
+class SampleEvaluator {
+ public:
+  explicit SampleEvaluator(const Problem& problem) : problem_(problem) {
+    split_ = SplitForProjection(problem);
+    if (split_.Applies()) {
+      projected_ = std::make_unique<ProjectedModel>(problem, split_,
+                                                    Eigen::VectorXd::Zero(problem.NumParameters()));
+      reduced_ = MakeProjectedProblem(problem, *projected_);
+    } else {
+      split_.linear.clear();
+      split_.nonlinear.clear();
+      for (int j = 0; j < problem.NumParameters(); ++j) split_.nonlinear.push_back(j);
+    }
+    values_.resize(problem.data.NumPoints());
+    weights_ = problem.data.HasSigma() ? problem.data.sigma.cwiseInverse().eval()
+                                       : Eigen::VectorXd::Ones(problem.data.NumPoints()).eval();
+  }
+
+  bool IsProjected() const { return projected_ != nullptr; }
+  const std::vector<int>& Sampled() const { return split_.nonlinear; }
+  const std::vector<int>& Solved() const { return split_.linear; }
+
+  double Cost(const Eigen::VectorXd& theta) {
+    values_.setConstant(std::numeric_limits<double>::quiet_NaN());
+    double cost = 0;
+    if (projected_) {
+      projected_->Evaluate(reduced_.data.predictors, theta.data(), values_.data());
+      cost = (values_ - reduced_.data.response).squaredNorm();
+    } else {
+      problem_.model->Evaluate(problem_.data.predictors, theta.data(), values_.data());
+      cost = (values_ - problem_.data.response).cwiseProduct(weights_).squaredNorm();
+    }
+    return std::isfinite(cost) ? cost : kInf;
+  }
+
+  bool Full(const Eigen::VectorXd& theta, Eigen::VectorXd* full) {
+    if (!projected_) {
+      *full = theta;
+      return true;
+    }
+    return projected_->Expand(theta.data(), full) && full->allFinite();
+  }
+
+ private:
+  const Problem& problem_;
+  ProjectionSplit split_;
+  std::unique_ptr<ProjectedModel> projected_;
+  Problem reduced_;
+  Eigen::VectorXd values_;
+  Eigen::VectorXd weights_;
+};
+
+struct Scored {
+  Eigen::VectorXd theta;
+  double rss = kInf;
+};
+
+bool IsDuplicate(const GuessCandidate& a, const GuessCandidate& b) {
+  const double scale = std::max({std::abs(a.rss), std::abs(b.rss), 1e-300});
+  if (std::abs(a.rss - b.rss) > kDuplicateTolerance * scale) return false;
+  for (Eigen::Index j = 0; j < a.parameters.size(); ++j) {
+    const double s = std::max({std::abs(a.parameters[j]), std::abs(b.parameters[j]), 1e-300});
+    if (std::abs(a.parameters[j] - b.parameters[j]) > kDuplicateTolerance * s) return false;
+  }
+  return true;
+}
+
+std::string Numbered(const std::string& base, int k) {
+  return k == 0 ? base : base + "-" + std::to_string(k + 1);
+}
+
+// Scales for the multistart box: the largest magnitude among the best candidates, else a
+// data scale (y for solved linear parameters, 1 otherwise).
+void FillScales(const Problem& problem, const std::vector<int>& solved,
+                const generic::DataScales& scales, GuessResult* out) {
+  const int p = problem.NumParameters();
+  out->scale.resize(p);
+  out->log_scale.assign(p, false);
+  const size_t top = std::min<size_t>(3, out->candidates.size());
+  for (int j = 0; j < p; ++j) {
+    double s = 0;
+    for (size_t c = 0; c < top; ++c) s = std::max(s, std::abs(out->candidates[c].parameters[j]));
+    const bool is_solved = std::find(solved.begin(), solved.end(), j) != solved.end();
+    const double lo = problem.Lower(j);
+    const double hi = problem.Upper(j);
+    if (!(s > 0) || !std::isfinite(s)) {
+      s = std::isfinite(lo) && std::isfinite(hi) && hi > lo ? 0.5 * (hi - lo)
+                                                            : (is_solved ? scales.y_scale : 1.0);
+    }
+    out->scale[j] = s;
+    out->log_scale[j] = lo > 0 && hi > kLogSpanRatio * lo;
+  }
+}
+
+}  // namespace
+
+bool GuessGeneric(const Model& model, const Dataset& data, const Eigen::VectorXd& lower,
+                  const Eigen::VectorXd& upper, const GuessOptions& options, GuessResult* out,
+                  std::string* error) {
+  Problem problem;
+  problem.model = &model;
+  if (!ValidateInputs(model, data, lower, upper, options, &problem.data, error)) return false;
+  const int p = model.NumParameters();
+  problem.lower = lower.size() ? lower : Eigen::VectorXd::Constant(p, -kInf);
+  problem.upper = upper.size() ? upper : Eigen::VectorXd::Constant(p, kInf);
+  *out = GuessResult();
+  out->lower = problem.lower;
+  out->upper = problem.upper;
+  const generic::DataScales scales = ComputeScales(problem.data);
+  const auto& y = problem.data.response;
+  if (y.maxCoeff() == y.minCoeff()) out->warnings.push_back("constant response");
+
+  SampleEvaluator evaluator(problem);
+  const std::vector<int>& sampled = evaluator.Sampled();
+  if (!evaluator.IsProjected()) {
+    out->warnings.push_back(model.LinearParameters().empty()
+                                ? "no linear parameters detected: every parameter is sampled"
+                                : "linear parameters are bounded: every parameter is sampled");
+  }
+
+  // The design over the sampled parameters.
+  std::vector<std::vector<double>> levels;
+  std::vector<int> num_levels;
+  for (int j : sampled) {
+    levels.push_back(generic::ParameterLevels(problem.Lower(j), problem.Upper(j), scales));
+    num_levels.push_back(static_cast<int>(levels.back().size()));
+  }
+  std::vector<Scored> scored;
+  int num_non_finite = 0;
+  for (const std::vector<int>& point : generic::DesignPoints(num_levels, kDesignBudget)) {
+    Scored s;
+    s.theta.resize(static_cast<Eigen::Index>(sampled.size()));
+    for (size_t k = 0; k < sampled.size(); ++k) s.theta[k] = levels[k][point[k]];
+    s.rss = evaluator.Cost(s.theta);
+    if (std::isfinite(s.rss)) {
+      scored.push_back(std::move(s));
+    } else {
+      ++num_non_finite;
+    }
+  }
+  if (scored.empty()) {
+    return Fail(error, "the model is not finite at any of the " + std::to_string(num_non_finite) +
+                           " sampled points: give bounds or a start");
+  }
+  std::stable_sort(scored.begin(), scored.end(),
+                   [](const Scored& a, const Scored& b) { return a.rss < b.rss; });
+
+  // The best distinct design points, then their polished versions.
+  std::vector<GuessCandidate> grid;
+  for (const Scored& s : scored) {
+    if (static_cast<int>(grid.size()) >= std::max(kNumPolished, options.max_candidates)) break;
+    GuessCandidate c;
+    if (!evaluator.Full(s.theta, &c.parameters)) continue;
+    c.rss = s.rss;
+    bool duplicate = false;
+    for (const GuessCandidate& g : grid) duplicate = duplicate || IsDuplicate(c, g);
+    if (!duplicate) grid.push_back(std::move(c));
+  }
+  std::vector<GuessCandidate> all;
+  LocalFitOptions polish;
+  polish.lm.max_iterations = kPolishIterations;
+  for (size_t k = 0; k < grid.size() && static_cast<int>(k) < kNumPolished; ++k) {
+    const LocalFitSummary fit = RunLocalFit(problem, grid[k].parameters, polish);
+    if (fit.parameters.allFinite() && std::isfinite(fit.final_cost) &&
+        fit.final_cost <= grid[k].rss && problem.IsInsideBounds(fit.parameters, nullptr)) {
+      all.push_back({"", fit.parameters, fit.final_cost});
+    }
+  }
+  const size_t num_polished = all.size();
+  for (GuessCandidate& g : grid) all.push_back(std::move(g));
+  std::vector<int> is_polish(all.size(), 0);
+  for (size_t k = 0; k < num_polished; ++k) is_polish[k] = 1;
+
+  std::vector<size_t> order(all.size());
+  for (size_t k = 0; k < order.size(); ++k) order[k] = k;
+  std::stable_sort(order.begin(), order.end(),
+                   [&](size_t a, size_t b) { return all[a].rss < all[b].rss; });
+  int num_named[2] = {0, 0};
+  for (size_t k : order) {
+    if (static_cast<int>(out->candidates.size()) >= options.max_candidates) break;
+    GuessCandidate& c = all[k];
+    if (!c.parameters.allFinite() || !problem.IsInsideBounds(c.parameters, nullptr)) continue;
+    bool duplicate = false;
+    for (const GuessCandidate& kept : out->candidates)
+      duplicate = duplicate || IsDuplicate(c, kept);
+    if (duplicate) continue;
+    c.name = Numbered(is_polish[k] ? "polish" : "grid", num_named[is_polish[k]]++);
+    out->candidates.push_back(std::move(c));
+  }
+  if (out->candidates.empty()) {
+    return Fail(error, "no sampled point gives finite parameters inside the bounds");
+  }
+  if (num_non_finite > 0) {
+    out->warnings.push_back(std::to_string(num_non_finite) +
+                            " sampled points gave non-finite model values and were skipped");
+  }
+  FillScales(problem, evaluator.Solved(), scales, out);
+  return true;
+}
+
+}  // namespace foothold
