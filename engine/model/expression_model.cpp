@@ -96,7 +96,8 @@ std::unique_ptr<ExpressionModel> CompileExpressionModel(
   }
   SyntaxTree tree;
   if (!ParseSyntaxTree(text, column_names, options, &tree, error)) return nullptr;
-  if (!parameter_order.empty() && !ApplyParameterOrder(parameter_order, column_names, &tree, error)) {
+  if (!parameter_order.empty() &&
+      !ApplyParameterOrder(parameter_order, column_names, &tree, error)) {
     return nullptr;
   }
   auto tape = std::make_shared<Tape>();
@@ -114,8 +115,7 @@ std::unique_ptr<ExpressionModel> ParseExpressionModel(
                                           /*fold_constants=*/true, error);
 }
 
-bool EvaluateColumnExpression(const std::string& text,
-                              const std::vector<std::string>& column_names,
+bool EvaluateColumnExpression(const std::string& text, const std::vector<std::string>& column_names,
                               const Eigen::MatrixXd& columns, Eigen::VectorXd* out,
                               std::string* error) {
   if (static_cast<size_t>(columns.cols()) != column_names.size()) {

@@ -77,8 +77,7 @@ std::unique_ptr<ExpressionModel> ParseExpressionModel(
 // Evaluates a parameter-free expression in the columns (e.g. a transformed response
 // "log(y)"): `columns` is n x column_names.size(). False with a message on error or on a
 // non-finite value (row named).
-bool EvaluateColumnExpression(const std::string& text,
-                              const std::vector<std::string>& column_names,
+bool EvaluateColumnExpression(const std::string& text, const std::vector<std::string>& column_names,
                               const Eigen::MatrixXd& columns, Eigen::VectorXd* out,
                               std::string* error);
 

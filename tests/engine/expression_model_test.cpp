@@ -1,8 +1,9 @@
 // Forward-mode derivatives, constant folding, linear parameters, columns and clones of
 // expression models.
-#include <catch2/catch.hpp>
+#include "engine/model/expression_model.h"
 
 #include <algorithm>
+#include <catch2/catch.hpp>
 #include <cmath>
 #include <limits>
 #include <random>
@@ -10,7 +11,6 @@
 #include <thread>
 #include <vector>
 
-#include "engine/model/expression_model.h"
 #include "engine/model/internal/expression_compile.h"
 
 namespace foothold {
@@ -60,8 +60,8 @@ void CheckGradient(const GradientCase& c, std::mt19937* random) {
   // Both entry points compute the values with the same arithmetic.
   CHECK((values.array() == values_only.array()).all());
   for (int j = 0; j < p; ++j) {
-    const double step = std::cbrt(std::numeric_limits<double>::epsilon()) *
-                        std::max(std::abs(params[j]), 1.0);
+    const double step =
+        std::cbrt(std::numeric_limits<double>::epsilon()) * std::max(std::abs(params[j]), 1.0);
     std::vector<double> up = params, down = params;
     up[j] += step;
     down[j] -= step;
@@ -88,24 +88,24 @@ TEST_CASE("ExpressionModel: derivatives of every operator agree with central dif
       {"a - b*x", -2, 2, -3, 3},
       {"a*b*x", -2, 2, -3, 3},
       {"-a*x + +b", -2, 2, -3, 3},
-      {"a/x", 0.5, 2, 1, 3},              // scalar / vector
-      {"x/a", 0.5, 2, -3, 3},             // vector / scalar
-      {"(a*x)/(b + x)", 0.5, 2, 1, 3},    // vector / vector
-      {"a/b*x + a*b", 0.5, 2, -3, 3},     // scalar / scalar, scalar result terms
+      {"a/x", 0.5, 2, 1, 3},            // scalar / vector
+      {"x/a", 0.5, 2, -3, 3},           // vector / scalar
+      {"(a*x)/(b + x)", 0.5, 2, 1, 3},  // vector / vector
+      {"a/b*x + a*b", 0.5, 2, -3, 3},   // scalar / scalar, scalar result terms
       {"(a*x)^2", -2, 2, -3, 3},
       {"(a*x)^3", -2, 2, -3, 3},
       {"(a*x)^(-2)", 0.5, 2, 1, 3},
-      {"(a*x - 5)^(-3)", 0.5, 2, 1, 2},  // negative base, negative integer exponent
-      {"(1 + b2*x/2)^(-2)", -3, -2, 2, 3},  // negative base 1 + b2 x / 2 in [-3.5, -1]
+      {"(a*x - 5)^(-3)", 0.5, 2, 1, 2},           // negative base, negative integer exponent
+      {"(1 + b2*x/2)^(-2)", -3, -2, 2, 3},        // negative base 1 + b2 x / 2 in [-3.5, -1]
       {"(a*x)^100 * 1e-20", 0.9, 1.1, 0.9, 1.1},  // std::pow with an integer exponent
       {"(a*x)^0.5", 0.5, 2, 1, 3},
       {"(a*x)^2.5", 0.5, 2, 1, 3},
       {"(a*x)^(-1.5)", 0.5, 2, 1, 3},
-      {"(a*x)^b", 0.5, 2, 1, 3},     // parameter exponent: exp(b log a)
+      {"(a*x)^b", 0.5, 2, 1, 3},  // parameter exponent: exp(b log a)
       {"x^b", 0.5, 2, 1, 3},
-      {"b^x", 0.5, 2, -2, 2},        // parameter base, column exponent: std::pow
+      {"b^x", 0.5, 2, -2, 2},  // parameter base, column exponent: std::pow
       {"(a*x)^x", 0.5, 2, 1, 3},
-      {"2^(a*x)", -1, 1, -2, 2},     // constant base, parameter exponent
+      {"2^(a*x)", -1, 1, -2, 2},  // constant base, parameter exponent
       {"10^((c - x)*h)", -1, 1, -2, 2},
       {"exp(a*x + b)", -1, 1, -2, 2},
       {"log(a*x + b)", 0.5, 2, 1, 3},
@@ -116,8 +116,8 @@ TEST_CASE("ExpressionModel: derivatives of every operator agree with central dif
       {"tan(a*x + b)", -0.3, 0.3, -1, 1},  // |a x + b| < 1.3 < pi/2
       {"atan(a*x + b)", -2, 2, -3, 3},
       {"tanh(a*x + b)", -1, 1, -2, 2},
-      {"abs(a*x + b)", 1, 2, 1, 3},        // away from the kink at 0
-      {"abs(a*x - b)", -2, -1, 1, 3},      // negative argument side
+      {"abs(a*x + b)", 1, 2, 1, 3},    // away from the kink at 0
+      {"abs(a*x - b)", -2, -1, 1, 3},  // negative argument side
       {"erf(a*x + b)", -1, 1, -2, 2},
       {"h*exp(-(x - m)^2/(2*s^2)) + k", 0.5, 2, -2, 4},
       {"a*exp(-x/t) + b", 0.5, 2, 0, 3},
@@ -158,7 +158,8 @@ TEST_CASE("ExpressionModel: the Jacobian of a gaussian matches the closed form",
 TEST_CASE("ExpressionModel: constant folding leaves results unchanged", "[engine]") {
   const std::string text = "2*pi*x*a + sqrt(2)*b - 3^2*c/exp(1) + (1 + 2)^(-2)*x^2*b";
   std::string error;
-  auto folded = internal::CompileExpressionModel(text, {"x"}, {}, ExpressionOptions(), true, &error);
+  auto folded =
+      internal::CompileExpressionModel(text, {"x"}, {}, ExpressionOptions(), true, &error);
   auto unfolded =
       internal::CompileExpressionModel(text, {"x"}, {}, ExpressionOptions(), false, &error);
   REQUIRE(folded);
@@ -204,20 +205,20 @@ std::vector<int> Linear(const std::string& text) { return Parse(text)->LinearPar
 
 TEST_CASE("ExpressionModel: LinearParameters finds a maximal affine set", "[engine]") {
   using V = std::vector<int>;
-  CHECK(Linear("a*exp(-x/t) + b") == V{0, 2});      // a, t, b
+  CHECK(Linear("a*exp(-x/t) + b") == V{0, 2});  // a, t, b
   CHECK(Linear("b1*(1-exp(-b2*x))") == V{0});
   CHECK(Linear("a*x + b*x^2 + c") == V{0, 1, 2});
   CHECK(Linear("(a + b)*x/2 - c") == V{0, 1, 2});
-  CHECK(Linear("a*b*x") == V{0});                   // a product of two: only the first
-  CHECK(Linear("a*c + b*c") == V{0, 2});            // a, c, b: greedy keeps a, so not c
-  CHECK(Linear("a/(b + x)") == V{0});               // division by b breaks b
+  CHECK(Linear("a*b*x") == V{0});         // a product of two: only the first
+  CHECK(Linear("a*c + b*c") == V{0, 2});  // a, c, b: greedy keeps a, so not c
+  CHECK(Linear("a/(b + x)") == V{0});     // division by b breaks b
   CHECK(Linear("x/b") == V{});
   CHECK(Linear("a^2*x") == V{});
   CHECK(Linear("exp(a)*x") == V{});
-  CHECK(Linear("(a*x)^1 + 3") == V{0});             // ^1 is the identity, affine offset 3
+  CHECK(Linear("(a*x)^1 + 3") == V{0});  // ^1 is the identity, affine offset 3
   CHECK(Linear("-(a*x) + sin(x)*b") == V{0, 1});
   CHECK(Linear("h*exp(-(x-m)^2/(2*s^2)) + k") == V{0, 3});
-  CHECK(Linear("(a*x)^0 + b") == V{1});             // a has no effect and is left out
+  CHECK(Linear("(a*x)^0 + b") == V{1});  // a has no effect and is left out
   CHECK(Linear("bottom + (top-bottom)/(1+10^((c-x)*h))") == V{0, 1});
 }
 
@@ -272,8 +273,7 @@ TEST_CASE("ExpressionModel: Clone gives identical results, also on other threads
   }
 }
 
-TEST_CASE("ExpressionModel: scratch buffers follow a change in the number of points",
-          "[engine]") {
+TEST_CASE("ExpressionModel: scratch buffers follow a change in the number of points", "[engine]") {
   const auto model = Parse("a*sin(b*x) + c");
   const double params[] = {1.2, 0.7, -0.4};
   for (int n : {5, 17, 1, 5}) {

@@ -3,7 +3,6 @@
 // Jacobian agrees with central differences there. Source: NIST Statistical Reference
 // Datasets, nonlinear regression (tests/data/nist-strd, read by the certification loader).
 #include <catch2/catch.hpp>
-
 #include <cmath>
 #include <limits>
 
@@ -37,8 +36,8 @@ TEST_CASE("ExpressionModel: NIST StRD models reproduce the certified residual su
   for (const certification::NistProblem& problem : LoadProblems()) {
     INFO(problem.name << ": " << problem.model);
     std::string error;
-    auto model = ParseExpressionModel(problem.model, problem.predictors,
-                                      problem.ParameterNames(), ExpressionOptions(), &error);
+    auto model = ParseExpressionModel(problem.model, problem.predictors, problem.ParameterNames(),
+                                      ExpressionOptions(), &error);
     INFO(error);
     REQUIRE(model);
     REQUIRE(model->NumParameters() == problem.num_params);
@@ -80,8 +79,8 @@ TEST_CASE("ExpressionModel: NIST StRD models reproduce the certified residual su
 TEST_CASE("ExpressionModel: linear parameters of NIST StRD models", "[engine]") {
   using V = std::vector<int>;
   for (const certification::NistProblem& problem : LoadProblems()) {
-    auto model = ParseExpressionModel(problem.model, problem.predictors,
-                                      problem.ParameterNames(), ExpressionOptions(), nullptr);
+    auto model = ParseExpressionModel(problem.model, problem.predictors, problem.ParameterNames(),
+                                      ExpressionOptions(), nullptr);
     REQUIRE(model);
     INFO(problem.name << ": " << problem.model);
     const V linear = model->LinearParameters();

@@ -1,6 +1,5 @@
 // Grammar, precedence, error messages, parameter order and limits of expression models.
 #include <catch2/catch.hpp>
-
 #include <cmath>
 #include <string>
 #include <vector>
@@ -52,14 +51,14 @@ TEST_CASE("ExpressionModel: numbers in every written form", "[engine]") {
 TEST_CASE("ExpressionModel: precedence and associativity", "[engine]") {
   CHECK(Value("1 + 2 * 3") == 7.0);
   CHECK(Value("(1 + 2) * 3") == 9.0);
-  CHECK(Value("10 - 4 - 3") == 3.0);  // left-associative
-  CHECK(Value("48 / 4 / 2") == 6.0);  // left-associative
+  CHECK(Value("10 - 4 - 3") == 3.0);   // left-associative
+  CHECK(Value("48 / 4 / 2") == 6.0);   // left-associative
   CHECK(Value("2 ^ 3 ^ 2") == 512.0);  // right-associative
   CHECK(Value("(2 ^ 3) ^ 2") == 64.0);
   CHECK(Value("-2 ^ 2") == -4.0);  // '^' binds tighter than unary minus
   CHECK(Value("(-2) ^ 2") == 4.0);
   CHECK(Value("-x^2", 3.0) == -9.0);
-  CHECK(Value("2 ^ -1") == 0.5);  // a signed exponent
+  CHECK(Value("2 ^ -1") == 0.5);      // a signed exponent
   CHECK(Value("2 ^ -1 ^ 2") == 0.5);  // 2^(-(1^2))
   CHECK(Value("64 / 2 ^ 3") == 8.0);  // a/b^c == a/(b^c)
   CHECK(Value("2 * 3 ^ 2") == 18.0);
@@ -154,8 +153,7 @@ TEST_CASE("ExpressionModel: folded constants must be finite", "[engine]") {
         "position 5: the constant 'log(0)' evaluates to -inf; expected a finite value");
   CHECK(ErrorOf("a + 1/(2 - 2)") ==
         "position 5: the constant '1/(2 - 2)' evaluates to inf; expected a finite value");
-  CHECK(ErrorOf("a + sqrt(-1)").rfind("position 5: the constant 'sqrt(-1)' evaluates to ", 0) ==
-        0);
+  CHECK(ErrorOf("a + sqrt(-1)").rfind("position 5: the constant 'sqrt(-1)' evaluates to ", 0) == 0);
 }
 
 TEST_CASE("ExpressionModel: identifiers are columns, pi, or parameters in order", "[engine]") {

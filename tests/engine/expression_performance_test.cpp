@@ -1,8 +1,7 @@
 // The expression tape against the hand-written gaussian family: same numbers, and (in the
 // hidden [.perf] case, run with `expression_performance_test [.perf]`) the cost ratio.
-#include <catch2/catch.hpp>
-
 #include <algorithm>
+#include <catch2/catch.hpp>
 #include <chrono>
 #include <cmath>
 #include <iostream>
@@ -41,7 +40,8 @@ Dataset PeakData(int n) {
   for (int i = 0; i < n; ++i) {
     const double x = -10.0 + 20.0 * i / (n - 1);
     data.predictors(i, 0) = x;
-    data.response[i] = 3.0 * std::exp(-(x - 1.2) * (x - 1.2) / (2 * 1.5 * 1.5)) + 0.4 + noise(random);
+    data.response[i] =
+        3.0 * std::exp(-(x - 1.2) * (x - 1.2) / (2 * 1.5 * 1.5)) + 0.4 + noise(random);
   }
   return data;
 }
@@ -72,8 +72,7 @@ template <class Work>
 double SecondsPerCall(int repeats, Work&& work) {
   const auto start = std::chrono::steady_clock::now();
   for (int r = 0; r < repeats; ++r) work();
-  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count() /
-         repeats;
+  return std::chrono::duration<double>(std::chrono::steady_clock::now() - start).count() / repeats;
 }
 
 // The machine is shared: alternate the two candidates over several trials and keep each
@@ -106,10 +105,11 @@ TEST_CASE("ExpressionModel: the gaussian expression costs little more than the f
   const auto [tape_jacobian, family_jacobian] = FastestOf(
       trials, repeats,
       [&] {
-        expression->EvaluateWithJacobian(data.predictors, params, values.data(),
-                                         jacobian.data());
+        expression->EvaluateWithJacobian(data.predictors, params, values.data(), jacobian.data());
       },
-      [&] { family.EvaluateWithJacobian(data.predictors, params, values.data(), jacobian.data()); });
+      [&] {
+        family.EvaluateWithJacobian(data.predictors, params, values.data(), jacobian.data());
+      });
 
   Problem expression_problem;
   expression_problem.model = expression.get();

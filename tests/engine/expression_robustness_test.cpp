@@ -1,7 +1,6 @@
 // Random texts never crash the parser or the evaluator: each is either a model whose
 // Jacobian has the right shape or an error that names a position inside the text.
 #include <catch2/catch.hpp>
-
 #include <random>
 #include <string>
 #include <vector>
@@ -15,8 +14,9 @@ constexpr int kNumRandomTexts = 20000;
 
 // Fragments that make both valid and broken expressions likely.
 const std::vector<std::string> kFragments = {
-    "a", "b", "x", "x2", "pi", "1", "2", ".5", "1e3", "2e-1", "+", "-", "*", "/", "^", "(",
-    ")", "exp(", "log(", "sqrt(", "abs(", "erf(", "tan(", "foo(", " ", "0", "1e400", ",", "$"};
+    "a",    "b",    "x",    "x2",   "pi", "1", "2",     ".5",   "1e3",  "2e-1",
+    "+",    "-",    "*",    "/",    "^",  "(", ")",     "exp(", "log(", "sqrt(",
+    "abs(", "erf(", "tan(", "foo(", " ",  "0", "1e400", ",",    "$"};
 
 std::string RandomText(std::mt19937* random) {
   std::uniform_int_distribution<int> length(0, 14);
@@ -60,7 +60,8 @@ TEST_CASE("ExpressionModel: random texts give a model or a positioned error", "[
     model->Evaluate(x, params.data(), values_only.data());
     // Bit-identical values from both entry points, NaN included.
     for (int i = 0; i < n; ++i) {
-      REQUIRE((values[i] == values_only[i] || (std::isnan(values[i]) && std::isnan(values_only[i]))));
+      REQUIRE(
+          (values[i] == values_only[i] || (std::isnan(values[i]) && std::isnan(values_only[i]))));
     }
   }
   // The fragments are chosen so that a fair share of texts parse.

@@ -344,33 +344,71 @@ void PowerWithDerivatives(int count, const Operand& a, const Operand& b, double*
   }
 }
 
-template <bool kA, bool kB> using AddKernel = BinaryKernel<AddOp, kA, kB>;
-template <bool kA, bool kB> using SubtractKernel = BinaryKernel<SubtractOp, kA, kB>;
-template <bool kA, bool kB> using MultiplyKernel = BinaryKernel<MultiplyOp, kA, kB>;
-template <bool kA, bool kB> using PowKernel = PowerKernel<false, kA, kB>;
-template <bool kA, bool kB> using PowExpLogKernel = PowerKernel<true, kA, kB>;
+template <bool kA, bool kB>
+using AddKernel = BinaryKernel<AddOp, kA, kB>;
+template <bool kA, bool kB>
+using SubtractKernel = BinaryKernel<SubtractOp, kA, kB>;
+template <bool kA, bool kB>
+using MultiplyKernel = BinaryKernel<MultiplyOp, kA, kB>;
+template <bool kA, bool kB>
+using PowKernel = PowerKernel<false, kA, kB>;
+template <bool kA, bool kB>
+using PowExpLogKernel = PowerKernel<true, kA, kB>;
 
 // Calls `visit` with the functor of a one-operand instruction; false for two operands.
 template <class Visitor>
 bool VisitUnary(const Instruction& instruction, Visitor&& visit) {
   switch (instruction.op) {
-    case OpCode::kNegate: visit(NegateOp{}); return true;
-    case OpCode::kReciprocal: visit(ReciprocalOp{}); return true;
-    case OpCode::kSquare: visit(SquareOp{}); return true;
-    case OpCode::kPowInteger: visit(PowIntegerOp{instruction.integer_exponent}); return true;
-    case OpCode::kPowConstant: visit(PowConstantOp{instruction.exponent}); return true;
-    case OpCode::kExp: visit(ExpOp{}); return true;
-    case OpCode::kLog: visit(LogOp{}); return true;
-    case OpCode::kLog10: visit(Log10Op{}); return true;
-    case OpCode::kSqrt: visit(SqrtOp{}); return true;
-    case OpCode::kSin: visit(SinOp{}); return true;
-    case OpCode::kCos: visit(CosOp{}); return true;
-    case OpCode::kTan: visit(TanOp{}); return true;
-    case OpCode::kAtan: visit(AtanOp{}); return true;
-    case OpCode::kTanh: visit(TanhOp{}); return true;
-    case OpCode::kAbs: visit(AbsOp{}); return true;
-    case OpCode::kErf: visit(ErfOp{}); return true;
-    default: return false;
+    case OpCode::kNegate:
+      visit(NegateOp{});
+      return true;
+    case OpCode::kReciprocal:
+      visit(ReciprocalOp{});
+      return true;
+    case OpCode::kSquare:
+      visit(SquareOp{});
+      return true;
+    case OpCode::kPowInteger:
+      visit(PowIntegerOp{instruction.integer_exponent});
+      return true;
+    case OpCode::kPowConstant:
+      visit(PowConstantOp{instruction.exponent});
+      return true;
+    case OpCode::kExp:
+      visit(ExpOp{});
+      return true;
+    case OpCode::kLog:
+      visit(LogOp{});
+      return true;
+    case OpCode::kLog10:
+      visit(Log10Op{});
+      return true;
+    case OpCode::kSqrt:
+      visit(SqrtOp{});
+      return true;
+    case OpCode::kSin:
+      visit(SinOp{});
+      return true;
+    case OpCode::kCos:
+      visit(CosOp{});
+      return true;
+    case OpCode::kTan:
+      visit(TanOp{});
+      return true;
+    case OpCode::kAtan:
+      visit(AtanOp{});
+      return true;
+    case OpCode::kTanh:
+      visit(TanhOp{});
+      return true;
+    case OpCode::kAbs:
+      visit(AbsOp{});
+      return true;
+    case OpCode::kErf:
+      visit(ErfOp{});
+      return true;
+    default:
+      return false;
   }
 }
 
@@ -379,12 +417,18 @@ bool VisitUnary(const Instruction& instruction, Visitor&& visit) {
 void RunValues(const Instruction& instruction, int count, const Operand& a, const Operand& b,
                double* out) {
   switch (instruction.op) {
-    case OpCode::kAdd: return BinaryValues<AddKernel>(count, a, b, out);
-    case OpCode::kSubtract: return BinaryValues<SubtractKernel>(count, a, b, out);
-    case OpCode::kMultiply: return BinaryValues<MultiplyKernel>(count, a, b, out);
-    case OpCode::kDivide: return BinaryValues<DivideKernel>(count, a, b, out);
-    case OpCode::kPow: return BinaryValues<PowKernel>(count, a, b, out);
-    case OpCode::kPowExpLog: return BinaryValues<PowExpLogKernel>(count, a, b, out);
+    case OpCode::kAdd:
+      return BinaryValues<AddKernel>(count, a, b, out);
+    case OpCode::kSubtract:
+      return BinaryValues<SubtractKernel>(count, a, b, out);
+    case OpCode::kMultiply:
+      return BinaryValues<MultiplyKernel>(count, a, b, out);
+    case OpCode::kDivide:
+      return BinaryValues<DivideKernel>(count, a, b, out);
+    case OpCode::kPow:
+      return BinaryValues<PowKernel>(count, a, b, out);
+    case OpCode::kPowExpLog:
+      return BinaryValues<PowExpLogKernel>(count, a, b, out);
     default:
       VisitUnary(instruction, [&](const auto& op) { UnaryValues(op, count, a, out); });
   }
@@ -404,8 +448,7 @@ void RunWithDerivatives(const Instruction& instruction, int count, const Operand
     case OpCode::kDivide:
       return BinaryWithScratch<DivideKernel>(count, a, b, out, terms, out_derivatives, temp_a);
     case OpCode::kPow:
-      return PowerWithDerivatives<false>(count, a, b, out, terms, out_derivatives, temp_a,
-                                         temp_b);
+      return PowerWithDerivatives<false>(count, a, b, out, terms, out_derivatives, temp_a, temp_b);
     case OpCode::kPowExpLog:
       return PowerWithDerivatives<true>(count, a, b, out, terms, out_derivatives, temp_a, temp_b);
     default:

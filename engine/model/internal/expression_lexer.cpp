@@ -50,10 +50,10 @@ bool ReadNumber(const std::string& text, size_t* index, Token* token, std::strin
     size_t j = i + 1;
     if (j < text.size() && (text[j] == '+' || text[j] == '-')) ++j;
     if (j >= text.size() || !IsDigit(text[j])) {
-      return Fail(static_cast<int>(j) + 1,
-                  "expected a digit in the exponent of the number '" +
-                      text.substr(start, j - start) + "'",
-                  error);
+      return Fail(
+          static_cast<int>(j) + 1,
+          "expected a digit in the exponent of the number '" + text.substr(start, j - start) + "'",
+          error);
     }
     while (j < text.size() && IsDigit(text[j])) ++j;
     i = j;
@@ -61,8 +61,7 @@ bool ReadNumber(const std::string& text, size_t* index, Token* token, std::strin
   if (i < text.size() && IsIdentifierStart(text[i])) {
     return Fail(static_cast<int>(i) + 1,
                 "expected an operator after the number '" + text.substr(start, i - start) +
-                    "' but found " + DescribeCharacter(text[i]) +
-                    " (write '*' to multiply)",
+                    "' but found " + DescribeCharacter(text[i]) + " (write '*' to multiply)",
                 error);
   }
   token->kind = TokenKind::kNumber;
@@ -83,8 +82,8 @@ bool ReadNumber(const std::string& text, size_t* index, Token* token, std::strin
     if (std::fabs(wide) < 1.0L) {
       value = static_cast<double>(wide);
     } else {
-      return Fail(position,
-                  "the number '" + token->text + "' is outside the range of a double", error);
+      return Fail(position, "the number '" + token->text + "' is outside the range of a double",
+                  error);
     }
   } else if (result.ec != std::errc() || result.ptr != digits.data() + digits.size()) {
     return Fail(position, "cannot read the number '" + token->text + "'", error);
@@ -126,13 +125,27 @@ bool Tokenize(const std::string& text, std::vector<Token>* tokens, std::string* 
       continue;
     }
     switch (c) {
-      case '+': token.kind = TokenKind::kPlus; break;
-      case '-': token.kind = TokenKind::kMinus; break;
-      case '*': token.kind = TokenKind::kStar; break;
-      case '/': token.kind = TokenKind::kSlash; break;
-      case '^': token.kind = TokenKind::kCaret; break;
-      case '(': token.kind = TokenKind::kLeftParen; break;
-      case ')': token.kind = TokenKind::kRightParen; break;
+      case '+':
+        token.kind = TokenKind::kPlus;
+        break;
+      case '-':
+        token.kind = TokenKind::kMinus;
+        break;
+      case '*':
+        token.kind = TokenKind::kStar;
+        break;
+      case '/':
+        token.kind = TokenKind::kSlash;
+        break;
+      case '^':
+        token.kind = TokenKind::kCaret;
+        break;
+      case '(':
+        token.kind = TokenKind::kLeftParen;
+        break;
+      case ')':
+        token.kind = TokenKind::kRightParen;
+        break;
       default:
         return Fail(token.position,
                     "unexpected " + DescribeCharacter(c) +

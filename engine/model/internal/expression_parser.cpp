@@ -16,6 +16,14 @@ constexpr Function kFunctions[] = {Function::kExp,  Function::kLog,  Function::k
 // pi to the precision of a double (the correctly rounded value of M_PI).
 constexpr double kPi = 3.141592653589793238462643383279502884;
 
+// "'a', 'b'" or "no parameters".
+std::string QuotedList(const std::vector<std::string>& names) {
+  if (names.empty()) return "no parameters";
+  std::string list;
+  for (const std::string& name : names) list += (list.empty() ? "'" : ", '") + name + "'";
+  return list;
+}
+
 constexpr char kOperandExpected[] = "expected a number, a name or '('";
 
 class Parser {
@@ -32,10 +40,10 @@ class Parser {
       return Fail(next.position, "unexpected ')' without a matching '('", error);
     }
     if (next.kind != TokenKind::kEnd) {
-      return Fail(next.position,
-                  "expected an operator (+ - * / ^) or end of input but found " +
-                      DescribeToken(next),
-                  error);
+      return Fail(
+          next.position,
+          "expected an operator (+ - * / ^) or end of input but found " + DescribeToken(next),
+          error);
     }
     return true;
   }
@@ -166,8 +174,7 @@ class Parser {
   // The inside of "( ... )" up to and excluding the ')', which must follow.
   bool ParseGroupBody(const std::string& opener, std::string* error) {
     if (Peek().kind == TokenKind::kRightParen) {
-      return Fail(Peek().position, "unexpected ')': expected an expression after " + opener,
-                  error);
+      return Fail(Peek().position, "unexpected ')': expected an expression after " + opener, error);
     }
     if (!ParseExpression(error)) return false;
     const Token& next = Peek();
@@ -213,10 +220,10 @@ class Parser {
       node.kind = NodeKind::kConstant;
       node.value = kPi;
     } else if (FindFunction(name.text, &function)) {
-      return Fail(name.position,
-                  "expected '(' after the function '" + name.text + "' but found " +
-                      DescribeToken(Peek()),
-                  error);
+      return Fail(
+          name.position,
+          "expected '(' after the function '" + name.text + "' but found " + DescribeToken(Peek()),
+          error);
     } else {
       node.kind = NodeKind::kParameter;
       auto& names = tree_->parameter_names;
@@ -226,8 +233,8 @@ class Parser {
         if (static_cast<int>(names.size()) >= options_.max_parameters) {
           return Fail(name.position,
                       "'" + name.text + "' would be parameter number " +
-                          std::to_string(names.size() + 1) + " but max_parameters = " +
-                          std::to_string(options_.max_parameters),
+                          std::to_string(names.size() + 1) +
+                          " but max_parameters = " + std::to_string(options_.max_parameters),
                       error);
         }
         names.push_back(name.text);
@@ -250,17 +257,28 @@ class Parser {
 
 const char* FunctionName(Function function) {
   switch (function) {
-    case Function::kExp: return "exp";
-    case Function::kLog: return "log";
-    case Function::kLog10: return "log10";
-    case Function::kSqrt: return "sqrt";
-    case Function::kSin: return "sin";
-    case Function::kCos: return "cos";
-    case Function::kTan: return "tan";
-    case Function::kAtan: return "atan";
-    case Function::kTanh: return "tanh";
-    case Function::kAbs: return "abs";
-    case Function::kErf: return "erf";
+    case Function::kExp:
+      return "exp";
+    case Function::kLog:
+      return "log";
+    case Function::kLog10:
+      return "log10";
+    case Function::kSqrt:
+      return "sqrt";
+    case Function::kSin:
+      return "sin";
+    case Function::kCos:
+      return "cos";
+    case Function::kTan:
+      return "tan";
+    case Function::kAtan:
+      return "atan";
+    case Function::kTanh:
+      return "tanh";
+    case Function::kAbs:
+      return "abs";
+    case Function::kErf:
+      return "erf";
   }
   return "?";
 }
@@ -317,12 +335,7 @@ bool ApplyParameterOrder(const std::vector<std::string>& order,
     if (std::find(column_names.begin(), column_names.end(), order[k]) != column_names.end()) {
       return fail(at + " is a data column, not a parameter");
     }
-    return fail(at + " is not a parameter of the expression; it uses " +
-                (used.empty() ? std::string("no parameters") : "'" + [&] {
-                  std::string names;
-                  for (const std::string& name : used) names += (names.empty() ? "" : "', '") + name;
-                  return names;
-                }() + "'"));
+    return fail(at + " is not a parameter of the expression; it uses " + QuotedList(used));
   }
   for (size_t j = 0; j < used.size(); ++j) {
     if (new_index[j] < 0) {

@@ -25,8 +25,18 @@ bool FindFunction(const std::string& name, Function* function);
 // "exp, log, log10, ..." for error messages.
 std::string FunctionList();
 
-enum class NodeKind { kConstant, kParameter, kColumn, kNegate, kAdd, kSubtract, kMultiply,
-                      kDivide, kPower, kFunction };
+enum class NodeKind {
+  kConstant,
+  kParameter,
+  kColumn,
+  kNegate,
+  kAdd,
+  kSubtract,
+  kMultiply,
+  kDivide,
+  kPower,
+  kFunction
+};
 
 struct Node {
   NodeKind kind = NodeKind::kConstant;

@@ -16,17 +16,28 @@ constexpr int kMaxRepeatedMultiplyExponent = 64;
 
 OpCode FunctionOpCode(Function function) {
   switch (function) {
-    case Function::kExp: return OpCode::kExp;
-    case Function::kLog: return OpCode::kLog;
-    case Function::kLog10: return OpCode::kLog10;
-    case Function::kSqrt: return OpCode::kSqrt;
-    case Function::kSin: return OpCode::kSin;
-    case Function::kCos: return OpCode::kCos;
-    case Function::kTan: return OpCode::kTan;
-    case Function::kAtan: return OpCode::kAtan;
-    case Function::kTanh: return OpCode::kTanh;
-    case Function::kAbs: return OpCode::kAbs;
-    case Function::kErf: return OpCode::kErf;
+    case Function::kExp:
+      return OpCode::kExp;
+    case Function::kLog:
+      return OpCode::kLog;
+    case Function::kLog10:
+      return OpCode::kLog10;
+    case Function::kSqrt:
+      return OpCode::kSqrt;
+    case Function::kSin:
+      return OpCode::kSin;
+    case Function::kCos:
+      return OpCode::kCos;
+    case Function::kTan:
+      return OpCode::kTan;
+    case Function::kAtan:
+      return OpCode::kAtan;
+    case Function::kTanh:
+      return OpCode::kTanh;
+    case Function::kAbs:
+      return OpCode::kAbs;
+    case Function::kErf:
+      return OpCode::kErf;
   }
   return OpCode::kExp;
 }
@@ -64,7 +75,8 @@ class TapeBuilder {
   }
 
   int Column(int predictor) {
-    if (predictor >= static_cast<int>(column_slots_.size())) column_slots_.resize(predictor + 1, -1);
+    if (predictor >= static_cast<int>(column_slots_.size()))
+      column_slots_.resize(predictor + 1, -1);
     if (column_slots_[predictor] < 0) {
       Slot slot;
       slot.kind = SlotKind::kColumn;
@@ -76,7 +88,8 @@ class TapeBuilder {
   }
 
   // Emits `instruction` (op and exponent set) on slots a and b, or folds it.
-  bool Emit(Instruction instruction, int a, int b, const Node& node, int* slot, std::string* error) {
+  bool Emit(Instruction instruction, int a, int b, const Node& node, int* slot,
+            std::string* error) {
     const Slot& first = tape_->slots[a];
     const Slot* second = b >= 0 ? &tape_->slots[b] : nullptr;
     if (fold_constants_ && first.kind == SlotKind::kConstant &&
@@ -368,16 +381,21 @@ class TapeBuilder {
 int Degree(OpCode op, int a, int b) {
   switch (op) {
     case OpCode::kAdd:
-    case OpCode::kSubtract: return std::max(a, b);
-    case OpCode::kNegate: return a;
+    case OpCode::kSubtract:
+      return std::max(a, b);
+    case OpCode::kNegate:
+      return a;
     case OpCode::kMultiply:
       if (a == 0) return b;
       if (b == 0) return a;
       return 2;
-    case OpCode::kDivide: return b == 0 ? a : 2;
+    case OpCode::kDivide:
+      return b == 0 ? a : 2;
     case OpCode::kPow:
-    case OpCode::kPowExpLog: return a == 0 && b == 0 ? 0 : 2;
-    default: return a == 0 ? 0 : 2;  // Functions and constant powers of a non-constant.
+    case OpCode::kPowExpLog:
+      return a == 0 && b == 0 ? 0 : 2;
+    default:
+      return a == 0 ? 0 : 2;  // Functions and constant powers of a non-constant.
   }
 }
 
@@ -388,8 +406,8 @@ bool IsJointlyAffine(const Tape& tape, const std::vector<bool>& in_set) {
     if (slot.kind == SlotKind::kParameter && in_set[slot.index]) degree[s] = 1;
   }
   for (const Instruction& instruction : tape.instructions) {
-    degree[instruction.result] =
-        Degree(instruction.op, degree[instruction.a], instruction.b >= 0 ? degree[instruction.b] : 0);
+    degree[instruction.result] = Degree(instruction.op, degree[instruction.a],
+                                        instruction.b >= 0 ? degree[instruction.b] : 0);
   }
   return degree[tape.root] <= 1;
 }
@@ -398,28 +416,50 @@ bool IsJointlyAffine(const Tape& tape, const std::vector<bool>& in_set) {
 
 const char* OpCodeName(OpCode op) {
   switch (op) {
-    case OpCode::kAdd: return "add";
-    case OpCode::kSubtract: return "sub";
-    case OpCode::kMultiply: return "mul";
-    case OpCode::kDivide: return "div";
-    case OpCode::kNegate: return "neg";
-    case OpCode::kReciprocal: return "recip";
-    case OpCode::kSquare: return "square";
-    case OpCode::kPowInteger: return "powi";
-    case OpCode::kPowConstant: return "powc";
-    case OpCode::kPow: return "pow";
-    case OpCode::kPowExpLog: return "pow_explog";
-    case OpCode::kExp: return "exp";
-    case OpCode::kLog: return "log";
-    case OpCode::kLog10: return "log10";
-    case OpCode::kSqrt: return "sqrt";
-    case OpCode::kSin: return "sin";
-    case OpCode::kCos: return "cos";
-    case OpCode::kTan: return "tan";
-    case OpCode::kAtan: return "atan";
-    case OpCode::kTanh: return "tanh";
-    case OpCode::kAbs: return "abs";
-    case OpCode::kErf: return "erf";
+    case OpCode::kAdd:
+      return "add";
+    case OpCode::kSubtract:
+      return "sub";
+    case OpCode::kMultiply:
+      return "mul";
+    case OpCode::kDivide:
+      return "div";
+    case OpCode::kNegate:
+      return "neg";
+    case OpCode::kReciprocal:
+      return "recip";
+    case OpCode::kSquare:
+      return "square";
+    case OpCode::kPowInteger:
+      return "powi";
+    case OpCode::kPowConstant:
+      return "powc";
+    case OpCode::kPow:
+      return "pow";
+    case OpCode::kPowExpLog:
+      return "pow_explog";
+    case OpCode::kExp:
+      return "exp";
+    case OpCode::kLog:
+      return "log";
+    case OpCode::kLog10:
+      return "log10";
+    case OpCode::kSqrt:
+      return "sqrt";
+    case OpCode::kSin:
+      return "sin";
+    case OpCode::kCos:
+      return "cos";
+    case OpCode::kTan:
+      return "tan";
+    case OpCode::kAtan:
+      return "atan";
+    case OpCode::kTanh:
+      return "tanh";
+    case OpCode::kAbs:
+      return "abs";
+    case OpCode::kErf:
+      return "erf";
   }
   return "?";
 }
@@ -429,10 +469,14 @@ std::string Tape::ToString() const {
   const auto name = [this](int s) {
     const Slot& slot = slots[s];
     switch (slot.kind) {
-      case SlotKind::kConstant: return FormatNumber(slot.constant);
-      case SlotKind::kParameter: return parameter_names[slot.index];
-      case SlotKind::kColumn: return predictor_names[slot.index];
-      case SlotKind::kComputed: return "t" + std::to_string(slot.index);
+      case SlotKind::kConstant:
+        return FormatNumber(slot.constant);
+      case SlotKind::kParameter:
+        return parameter_names[slot.index];
+      case SlotKind::kColumn:
+        return predictor_names[slot.index];
+      case SlotKind::kComputed:
+        return "t" + std::to_string(slot.index);
     }
     return std::string("?");
   };
@@ -483,14 +527,22 @@ bool BuildTape(const SyntaxTree& tree, const std::string& text,
     Instruction instruction;
     bool ok = true;
     switch (node.kind) {
-      case NodeKind::kConstant: slot_of[i] = builder.Constant(node.value); break;
-      case NodeKind::kParameter: slot_of[i] = builder.Parameter(node.index); break;
-      case NodeKind::kColumn: slot_of[i] = builder.Column(predictor_of[node.index]); break;
-      case NodeKind::kPower: ok = builder.Power(a, b, node, &slot_of[i], error); break;
+      case NodeKind::kConstant:
+        slot_of[i] = builder.Constant(node.value);
+        break;
+      case NodeKind::kParameter:
+        slot_of[i] = builder.Parameter(node.index);
+        break;
+      case NodeKind::kColumn:
+        slot_of[i] = builder.Column(predictor_of[node.index]);
+        break;
+      case NodeKind::kPower:
+        ok = builder.Power(a, b, node, &slot_of[i], error);
+        break;
       case NodeKind::kNegate:
       case NodeKind::kFunction:
-        instruction.op = node.kind == NodeKind::kNegate ? OpCode::kNegate
-                                                         : FunctionOpCode(node.function);
+        instruction.op =
+            node.kind == NodeKind::kNegate ? OpCode::kNegate : FunctionOpCode(node.function);
         ok = builder.Emit(instruction, a, -1, node, &slot_of[i], error);
         break;
       case NodeKind::kMultiply:

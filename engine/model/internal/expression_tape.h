@@ -105,7 +105,7 @@ struct Tape {
   // Scalars: constants' values, a 1.0 for parameters' own derivative, parameter values
   // and computed scalar slots. Laid out once; a workspace copies `scalar_init`.
   std::vector<double> scalar_init;
-  std::vector<int> scalar_value;  // per slot, -1 for vector slots
+  std::vector<int> scalar_value;                     // per slot, -1 for vector slots
   std::vector<std::vector<int>> scalar_derivatives;  // per slot (scalar slots only)
   // Vector storage for Evaluate() (values only) and for EvaluateWithJacobian().
   StorageLayout values_layout;

@@ -117,8 +117,7 @@ void TapeWorkspace::Evaluate(const Tape& tape, const Eigen::MatrixXd& x, const d
 }
 
 void TapeWorkspace::EvaluateWithJacobian(const Tape& tape, const Eigen::MatrixXd& x,
-                                         const double* params, double* values,
-                                         double* jacobian) {
+                                         const double* params, double* values, double* jacobian) {
   CheckShape(tape, x);
   const int n = static_cast<int>(x.rows());
   if (n == 0) return;

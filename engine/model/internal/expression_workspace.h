@@ -16,8 +16,7 @@ class TapeWorkspace {
   explicit TapeWorkspace(const Tape& tape);
 
   // values[i] = f(x_i) for i < x.rows(); no derivatives are computed.
-  void Evaluate(const Tape& tape, const Eigen::MatrixXd& x, const double* params,
-                double* values);
+  void Evaluate(const Tape& tape, const Eigen::MatrixXd& x, const double* params, double* values);
   // Values and the column-major n x p Jacobian.
   void EvaluateWithJacobian(const Tape& tape, const Eigen::MatrixXd& x, const double* params,
                             double* values, double* jacobian);
