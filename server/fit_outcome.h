@@ -38,6 +38,8 @@ struct FitOutcome {
   std::vector<Basin> basins;  // best first; empty when nothing converged
   std::vector<StartRecord> starts;
   Verdict verdict;
+  std::vector<std::string> guessed;   // parameters whose start the guesser chose
+  std::vector<std::string> warnings;  // notes for people (from the guesser)
   std::uint64_t seed = 0;
   double elapsed_ms = 0;
 

@@ -9,12 +9,12 @@
 
 #include "engine/model/expression_model.h"
 #include "heuristics/families/catalogue.h"
+#include "heuristics/guess.h"
+#include "server/fit_start.h"
 #include "server/verdict.h"
 
 namespace foothold {
 namespace {
-
-constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
 std::string FormatNumber(double value) {
   std::ostringstream out;
@@ -113,10 +113,13 @@ bool BuildSigma(const FitRequest& request, Eigen::VectorXd* sigma, std::string* 
   return true;
 }
 
-// Builds the model; `predictor_columns` are the columns an expression may read.
-bool BuildModel(const ModelSpec& spec, const std::vector<std::string>& predictor_columns,
-                std::unique_ptr<Model>* model, std::vector<FamilyParameter>* family_parameters,
-                std::string* error) {
+// Builds the model; `predictor_columns` are the columns an expression may read and
+// `all_columns` the data a family guesser may look at (to choose "peaks": "auto").
+// `spec` is updated with what was resolved (the chosen peak count).
+bool BuildModel(const std::vector<std::string>& predictor_columns, const Dataset& all_columns,
+                ModelSpec* resolved, FamilyRequest* family_request, std::unique_ptr<Model>* model,
+                std::vector<FamilyParameter>* family_parameters, std::string* error) {
+  const ModelSpec& spec = *resolved;
   if (spec.IsFamily()) {
     const FamilyDescription* description = FindFamily(spec.family);
     if (!description) {
@@ -139,19 +142,21 @@ bool BuildModel(const ModelSpec& spec, const std::vector<std::string>& predictor
       *error = "model.peaks: family '" + spec.family + "' takes no peak count";
       return false;
     }
-    if (spec.auto_peaks) {
-      *error =
-          "model.peaks = 'auto': choosing the peak count from the data is not supported "
-          "yet; give a number";
-      return false;
-    }
-    FamilyRequest family_request;
-    family_request.name = spec.family;
-    if (spec.degree) family_request.degree = *spec.degree;
-    if (spec.peaks) family_request.peaks = *spec.peaks;
-    FamilyInstance instance;
+    family_request->name = spec.family;
+    if (spec.degree) family_request->degree = *spec.degree;
+    if (spec.peaks) family_request->peaks = *spec.peaks;
     std::string family_error;
-    if (!InstantiateFamily(family_request, &instance, &family_error)) {
+    if (spec.auto_peaks) {
+      Dataset curve;
+      if (!all_columns.SelectPredictors({"x"}, &curve, &family_error) ||
+          !ResolveAutoPeaks(curve, family_request, &family_error)) {
+        *error = "model.peaks = 'auto': " + family_error;
+        return false;
+      }
+      resolved->peaks = family_request->peaks;
+    }
+    FamilyInstance instance;
+    if (!InstantiateFamily(*family_request, &instance, &family_error)) {
       *error = "model: " + family_error;
       return false;
     }
@@ -168,78 +173,6 @@ bool BuildModel(const ModelSpec& spec, const std::vector<std::string>& predictor
   }
   *model = std::move(expression);
   family_parameters->clear();
-  return true;
-}
-
-int ParameterIndex(const std::vector<std::string>& names, const std::string& name) {
-  for (size_t j = 0; j < names.size(); ++j) {
-    if (names[j] == name) return static_cast<int>(j);
-  }
-  return -1;
-}
-
-std::string UnknownParameter(const std::string& field, const std::string& name,
-                             const std::vector<std::string>& names) {
-  return field + ": unknown parameter '" + name + "' (the model's parameters: " + Join(names) + ")";
-}
-
-// Bounds (family defaults, then the request), fixed flags and the start vector.
-bool BuildParameters(const FitRequest& request, const std::vector<FamilyParameter>& defaults,
-                     Problem* problem, Eigen::VectorXd* start, std::string* error) {
-  const std::vector<std::string>& names = problem->model->ParameterNames();
-  const int p = static_cast<int>(names.size());
-  problem->lower = Eigen::VectorXd::Constant(p, -kInfinity);
-  problem->upper = Eigen::VectorXd::Constant(p, kInfinity);
-  for (size_t j = 0; j < defaults.size() && static_cast<int>(j) < p; ++j) {
-    problem->lower[j] = defaults[j].default_lower;
-    problem->upper[j] = defaults[j].default_upper;
-  }
-  for (const NamedBounds& bounds : request.bounds) {
-    const int j = ParameterIndex(names, bounds.name);
-    if (j < 0) {
-      *error = UnknownParameter("bounds", bounds.name, names);
-      return false;
-    }
-    problem->lower[j] = bounds.lower;
-    problem->upper[j] = bounds.upper;
-  }
-  *start = Eigen::VectorXd::Constant(p, std::numeric_limits<double>::quiet_NaN());
-  problem->is_fixed.assign(p, false);
-  for (const NamedValue& fixed : request.fix) {
-    const int j = ParameterIndex(names, fixed.name);
-    if (j < 0) {
-      *error = UnknownParameter("fix", fixed.name, names);
-      return false;
-    }
-    problem->is_fixed[j] = true;
-    (*start)[j] = fixed.value;
-  }
-  for (const NamedValue& given : request.start) {
-    const int j = ParameterIndex(names, given.name);
-    if (j < 0) {
-      *error = UnknownParameter("start", given.name, names);
-      return false;
-    }
-    if (problem->is_fixed[j]) {
-      *error = "start." + given.name + ": the parameter is also in fix; give it in one place";
-      return false;
-    }
-    (*start)[j] = given.value;
-  }
-  for (int j = 0; j < p; ++j) {
-    const std::string field = (problem->is_fixed[j] ? "fix." : "start.") + names[j];
-    if (std::isnan((*start)[j])) {
-      *error = "start." + names[j] + ": no start value for parameter '" + names[j] +
-               "'; automatic starting guesses are not available yet, so give every free "
-               "parameter a start";
-      return false;
-    }
-    if ((*start)[j] < problem->lower[j] || (*start)[j] > problem->upper[j]) {
-      *error = field + " = " + FormatNumber((*start)[j]) + " is outside its bounds [" +
-               FormatNumber(problem->lower[j]) + ", " + FormatNumber(problem->upper[j]) + "]";
-      return false;
-    }
-  }
   return true;
 }
 
@@ -275,7 +208,10 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
     return false;
   }
   std::vector<FamilyParameter> family_parameters;
-  if (!BuildModel(request.model, predictor_columns, &prepared.model, &family_parameters, error)) {
+  FamilyRequest family_request;
+  prepared.model_spec = request.model;
+  if (!BuildModel(predictor_columns, all_columns, &prepared.model_spec, &family_request,
+                  &prepared.model, &family_parameters, error)) {
     return false;
   }
   Problem& problem = prepared.problem;
@@ -287,16 +223,13 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
     return false;
   }
   if (!request.sigma_mode.empty()) SigmaModeFromString(request.sigma_mode, &problem.sigma_mode);
-  if (!BuildParameters(request, family_parameters, &problem, &prepared.start, error)) return false;
-
-  const int num_free = problem.NumFree();
-  if (problem.data.NumPoints() < num_free) {
-    std::ostringstream message;
-    message << "data: " << problem.data.NumPoints() << " points but the model has " << num_free
-            << " free parameters; need at least " << num_free << " points";
-    *error = message.str();
-    return false;
-  }
+  StartChoice choice;
+  const FamilyRequest* family = request.model.IsFamily() ? &family_request : nullptr;
+  if (!ChooseStart(request, family, family_parameters, &problem, &choice, error)) return false;
+  prepared.start = std::move(choice.start);
+  prepared.start_origin = std::move(choice.origin);
+  prepared.guessed = std::move(choice.guessed);
+  prepared.warnings = std::move(choice.warnings);
   std::string problem_error;
   if (!problem.Validate(&problem_error)) {
     *error = "problem: " + problem_error;
@@ -320,7 +253,9 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
   const Problem& problem = prepared.problem;
   FitOutcome outcome;
   outcome.label = request.label;
-  outcome.model = request.model;
+  outcome.model = prepared.model_spec;
+  outcome.guessed = prepared.guessed;
+  outcome.warnings = prepared.warnings;
   outcome.parameter_names = problem.model->ParameterNames();
   outcome.is_fixed = problem.is_fixed;
   outcome.predictor_names = problem.data.predictor_names;
@@ -338,7 +273,7 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
   const LocalFitSummary& best = outcome.best;
   StartRecord record;
   record.index = 0;
-  record.origin = "user";
+  record.origin = prepared.start_origin;
   record.start = best.start.size() == end.size() ? best.start : prepared.start;
   record.end = end;
   record.initial_rss = best.initial_cost;

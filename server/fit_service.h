@@ -21,7 +21,11 @@ struct PreparedFit {
   Problem problem;
   Eigen::VectorXd start;  // size p, inside the bounds, fixed values in place
   LevenbergMarquardtOptions solver_options;
-  std::string sigma_column;  // empty when unweighted
+  std::string sigma_column;           // empty when unweighted
+  ModelSpec model_spec;               // the request's model with "auto" resolved
+  std::string start_origin;           // "user" or "guess:<candidate>"
+  std::vector<std::string> guessed;   // parameters whose start the guesser chose
+  std::vector<std::string> warnings;  // notes for people (from the guesser)
 };
 
 // Every bad-input check lives here: false with a message naming the field (and the row

@@ -34,10 +34,12 @@ Json EncodeModel(const ModelSpec& model, const std::vector<std::string>& paramet
   if (model.IsFamily()) {
     object["family"] = model.family;
     if (model.degree) object["degree"] = *model.degree;
-    if (model.auto_peaks) {
-      object["peaks"] = "auto";
-    } else if (model.peaks) {
+    if (model.peaks) {
       object["peaks"] = *model.peaks;
+      // The count was chosen from the data when the request said "auto".
+      if (model.auto_peaks) object["auto_peaks"] = true;
+    } else if (model.auto_peaks) {
+      object["peaks"] = "auto";
     }
   } else {
     object["expression"] = model.expression;
@@ -162,6 +164,8 @@ Json EncodeFitOutcome(const FitOutcome& outcome) {
   document["basins"] = EncodeBasins(outcome);
   document["starts"] = EncodeStarts(outcome);
   document["verdict"] = {{"flags", outcome.verdict.flags}, {"summary", outcome.verdict.summary}};
+  document["guessed"] = outcome.guessed;
+  document["warnings"] = outcome.warnings;
   document["seed"] = outcome.seed;
   document["elapsed_ms"] = Number(outcome.elapsed_ms);
   return document;

@@ -129,6 +129,12 @@ void WriteFitReport(const FitOutcome& outcome, const std::string& source, std::o
   std::vector<std::vector<std::string>> header{{"model", ModelLine(outcome)},
                                                {"data", DataLine(outcome, source)}};
   if (!outcome.label.empty()) header.insert(header.begin(), {"label", outcome.label});
+  if (!outcome.guessed.empty()) {
+    const std::string origin = outcome.starts.empty() ? "guess" : outcome.starts[0].origin;
+    header.push_back(
+        {"start", "guessed from the data (" + origin + ") for " + Join(outcome.guessed)});
+  }
+  for (const std::string& warning : outcome.warnings) header.push_back({"note", warning});
   WriteAligned(header, out);
   out << '\n';
   WriteParameterTable(outcome, out);

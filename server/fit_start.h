@@ -1,0 +1,34 @@
+#pragma once
+// Bounds, fixed parameters and the start point of a fit: family defaults overridden by the
+// request's bounds, the request's start and fix values, and the family guesser's best
+// candidate for every free parameter the request leaves without a start.
+
+#include <Eigen/Core>
+#include <string>
+#include <vector>
+
+#include "engine/solve/problem.h"
+#include "heuristics/families/catalogue.h"
+#include "server/fit_request.h"
+
+namespace foothold {
+
+struct StartChoice {
+  Eigen::VectorXd start;  // size p, inside the bounds, fixed values in place
+  // "user" when every free parameter came from the request, else "guess:<candidate>".
+  std::string origin = "user";
+  std::vector<std::string> guessed;   // parameters whose start came from the guesser
+  std::vector<std::string> warnings;  // the guesser's notes for people
+};
+
+// Fills problem->lower/upper/is_fixed and chooses the start. `family` is null for an
+// expression model (no guesser yet: every free parameter then needs a start);
+// `defaults` are the family's parameters with default bounds (empty for an expression).
+// False with a message naming the field and parameter on unknown names, a parameter in
+// both start and fix, a start or fixed value outside its bounds, or a missing start that
+// cannot be guessed.
+bool ChooseStart(const FitRequest& request, const FamilyRequest* family,
+                 const std::vector<FamilyParameter>& defaults, Problem* problem, StartChoice* out,
+                 std::string* error);
+
+}  // namespace foothold
