@@ -7,6 +7,7 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <map>
 #include <memory>
 #include <sstream>
 
@@ -21,6 +22,9 @@ namespace {
 constexpr double kInf = std::numeric_limits<double>::infinity();
 // Design points evaluated (each one model evaluation and one small QR).
 constexpr int kDesignBudget = 1024;
+// Best design points refined by coordinate sweeps, and the sweeps over the grid.
+constexpr int kNumSwept = 4;
+constexpr int kNumSweeps = 3;
 // Best distinct design points polished, and the iterations each polish may take.
 constexpr int kNumPolished = 6;
 constexpr int kPolishIterations = 40;
@@ -160,9 +164,37 @@ class SampleEvaluator {
 };
 
 struct Scored {
+  std::vector<int> index;  // level index per sampled parameter
   Eigen::VectorXd theta;
   double rss = kInf;
+  bool is_sweep = false;  // found by the coordinate sweeps
 };
+
+// Cyclic coordinate search on the level grid (each sweep tries every level of each sampled
+// parameter with the others held): cheap, and it resolves parameters the design left
+// coarse, such as the centers of several peaks or the periods of several cycles.
+Scored Sweep(Scored point, const std::vector<std::vector<double>>& levels,
+             SampleEvaluator* evaluator) {
+  for (int sweep = 0; sweep < kNumSweeps; ++sweep) {
+    bool improved = false;
+    for (size_t k = 0; k < levels.size(); ++k) {
+      Scored trial = point;
+      for (size_t l = 0; l < levels[k].size(); ++l) {
+        if (static_cast<int>(l) == point.index[k]) continue;
+        trial.index[k] = static_cast<int>(l);
+        trial.theta[k] = levels[k][l];
+        trial.rss = evaluator->Cost(trial.theta);
+        if (trial.rss < point.rss) {
+          point = trial;
+          improved = true;
+        }
+      }
+    }
+    if (!improved) break;
+  }
+  point.is_sweep = true;
+  return point;
+}
 
 bool IsDuplicate(const GuessCandidate& a, const GuessCandidate& b) {
   const double scale = std::max({std::abs(a.rss), std::abs(b.rss), 1e-300});
@@ -201,6 +233,55 @@ void FillScales(const Problem& problem, const std::vector<int>& solved,
   }
 }
 
+// The best distinct points (design and sweeps), full-size, then polished versions of the
+// best kNumPolished. Each candidate's name is its kind; Name() numbers them later.
+std::vector<GuessCandidate> PolishBest(const Problem& problem, const std::vector<Scored>& scored,
+                                       int max_candidates, SampleEvaluator* evaluator) {
+  std::vector<GuessCandidate> grid;
+  for (const Scored& s : scored) {
+    if (static_cast<int>(grid.size()) >= std::max(kNumPolished, max_candidates)) break;
+    GuessCandidate c;
+    if (!evaluator->Full(s.theta, &c.parameters)) continue;
+    c.rss = s.rss;
+    c.name = s.is_sweep ? "sweep" : "grid";
+    bool duplicate = false;
+    for (const GuessCandidate& g : grid) duplicate = duplicate || IsDuplicate(c, g);
+    if (!duplicate) grid.push_back(std::move(c));
+  }
+  std::vector<GuessCandidate> all;
+  LocalFitOptions polish;
+  polish.lm.max_iterations = kPolishIterations;
+  for (size_t k = 0; k < grid.size() && static_cast<int>(k) < kNumPolished; ++k) {
+    const LocalFitSummary fit = RunLocalFit(problem, grid[k].parameters, polish);
+    if (fit.parameters.allFinite() && std::isfinite(fit.final_cost) &&
+        fit.final_cost <= grid[k].rss && problem.IsInsideBounds(fit.parameters, nullptr)) {
+      all.push_back({"polish", fit.parameters, fit.final_cost});
+    }
+  }
+  for (GuessCandidate& g : grid) all.push_back(std::move(g));
+  std::stable_sort(all.begin(), all.end(),
+                   [](const GuessCandidate& a, const GuessCandidate& b) { return a.rss < b.rss; });
+  return all;
+}
+
+// Keeps up to max_candidates distinct, finite candidates inside the bounds, best first, and
+// numbers repeated kinds ("polish", "polish-2", ...).
+void KeepCandidates(const Problem& problem, std::vector<GuessCandidate> all, int max_candidates,
+                    GuessResult* out) {
+  std::map<std::string, int> num_named;
+  for (GuessCandidate& c : all) {
+    if (static_cast<int>(out->candidates.size()) >= max_candidates) break;
+    if (!c.parameters.allFinite() || !problem.IsInsideBounds(c.parameters, nullptr)) continue;
+    bool duplicate = false;
+    for (const GuessCandidate& kept : out->candidates) {
+      duplicate = duplicate || IsDuplicate(c, kept);
+    }
+    if (duplicate) continue;
+    c.name = Numbered(c.name, num_named[c.name]++);
+    out->candidates.push_back(std::move(c));
+  }
+}
+
 }  // namespace
 
 bool GuessGeneric(const Model& model, const Dataset& data, const Eigen::VectorXd& lower,
@@ -220,17 +301,15 @@ bool GuessGeneric(const Model& model, const Dataset& data, const Eigen::VectorXd
   if (y.maxCoeff() == y.minCoeff()) out->warnings.push_back("constant response");
 
   SampleEvaluator evaluator(problem);
-  const std::vector<int>& sampled = evaluator.Sampled();
   if (!evaluator.IsProjected()) {
-    out->warnings.push_back(model.LinearParameters().empty()
-                                ? "no linear parameters detected: every parameter is sampled"
-                                : "linear parameters are bounded: every parameter is sampled");
+    out->warnings.push_back(
+        model.LinearParameters().empty()
+            ? "no linear parameters detected: every parameter is sampled"
+            : "no linear parameter can be projected: every parameter is sampled");
   }
-
-  // The design over the sampled parameters.
   std::vector<std::vector<double>> levels;
   std::vector<int> num_levels;
-  for (int j : sampled) {
+  for (int j : evaluator.Sampled()) {
     levels.push_back(generic::ParameterLevels(problem.Lower(j), problem.Upper(j), scales));
     num_levels.push_back(static_cast<int>(levels.back().size()));
   }
@@ -238,8 +317,9 @@ bool GuessGeneric(const Model& model, const Dataset& data, const Eigen::VectorXd
   int num_non_finite = 0;
   for (const std::vector<int>& point : generic::DesignPoints(num_levels, kDesignBudget)) {
     Scored s;
-    s.theta.resize(static_cast<Eigen::Index>(sampled.size()));
-    for (size_t k = 0; k < sampled.size(); ++k) s.theta[k] = levels[k][point[k]];
+    s.index = point;
+    s.theta.resize(static_cast<Eigen::Index>(levels.size()));
+    for (size_t k = 0; k < levels.size(); ++k) s.theta[k] = levels[k][point[k]];
     s.rss = evaluator.Cost(s.theta);
     if (std::isfinite(s.rss)) {
       scored.push_back(std::move(s));
@@ -251,51 +331,14 @@ bool GuessGeneric(const Model& model, const Dataset& data, const Eigen::VectorXd
     return Fail(error, "the model is not finite at any of the " + std::to_string(num_non_finite) +
                            " sampled points: give bounds or a start");
   }
-  std::stable_sort(scored.begin(), scored.end(),
-                   [](const Scored& a, const Scored& b) { return a.rss < b.rss; });
+  auto by_rss = [](const Scored& a, const Scored& b) { return a.rss < b.rss; };
+  std::stable_sort(scored.begin(), scored.end(), by_rss);
+  const size_t num_swept = std::min<size_t>(kNumSwept, scored.size());
+  for (size_t k = 0; k < num_swept; ++k) scored.push_back(Sweep(scored[k], levels, &evaluator));
+  std::stable_sort(scored.begin(), scored.end(), by_rss);
 
-  // The best distinct design points, then their polished versions.
-  std::vector<GuessCandidate> grid;
-  for (const Scored& s : scored) {
-    if (static_cast<int>(grid.size()) >= std::max(kNumPolished, options.max_candidates)) break;
-    GuessCandidate c;
-    if (!evaluator.Full(s.theta, &c.parameters)) continue;
-    c.rss = s.rss;
-    bool duplicate = false;
-    for (const GuessCandidate& g : grid) duplicate = duplicate || IsDuplicate(c, g);
-    if (!duplicate) grid.push_back(std::move(c));
-  }
-  std::vector<GuessCandidate> all;
-  LocalFitOptions polish;
-  polish.lm.max_iterations = kPolishIterations;
-  for (size_t k = 0; k < grid.size() && static_cast<int>(k) < kNumPolished; ++k) {
-    const LocalFitSummary fit = RunLocalFit(problem, grid[k].parameters, polish);
-    if (fit.parameters.allFinite() && std::isfinite(fit.final_cost) &&
-        fit.final_cost <= grid[k].rss && problem.IsInsideBounds(fit.parameters, nullptr)) {
-      all.push_back({"", fit.parameters, fit.final_cost});
-    }
-  }
-  const size_t num_polished = all.size();
-  for (GuessCandidate& g : grid) all.push_back(std::move(g));
-  std::vector<int> is_polish(all.size(), 0);
-  for (size_t k = 0; k < num_polished; ++k) is_polish[k] = 1;
-
-  std::vector<size_t> order(all.size());
-  for (size_t k = 0; k < order.size(); ++k) order[k] = k;
-  std::stable_sort(order.begin(), order.end(),
-                   [&](size_t a, size_t b) { return all[a].rss < all[b].rss; });
-  int num_named[2] = {0, 0};
-  for (size_t k : order) {
-    if (static_cast<int>(out->candidates.size()) >= options.max_candidates) break;
-    GuessCandidate& c = all[k];
-    if (!c.parameters.allFinite() || !problem.IsInsideBounds(c.parameters, nullptr)) continue;
-    bool duplicate = false;
-    for (const GuessCandidate& kept : out->candidates)
-      duplicate = duplicate || IsDuplicate(c, kept);
-    if (duplicate) continue;
-    c.name = Numbered(is_polish[k] ? "polish" : "grid", num_named[is_polish[k]]++);
-    out->candidates.push_back(std::move(c));
-  }
+  KeepCandidates(problem, PolishBest(problem, scored, options.max_candidates, &evaluator),
+                 options.max_candidates, out);
   if (out->candidates.empty()) {
     return Fail(error, "no sampled point gives finite parameters inside the bounds");
   }
