@@ -36,6 +36,31 @@ bool IsEven(const Eigen::VectorXd& x, double tolerance) {
   return true;
 }
 
+// Means of y over num_bins equal bins spanning [x0, xn], placed at the bin centres; an empty
+// bin takes the interpolated value at its centre. The mean of an exponential over a bin is
+// its value at the centre times a factor that is the same for every bin (to the extent the
+// points fill the bins alike), so the poles survive while the noise is averaged down.
+Eigen::VectorXd BinAverages(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
+                            Eigen::Index num_bins, double* spacing) {
+  const Eigen::Index n = x.size();
+  const double width = (x[n - 1] - x[0]) / static_cast<double>(num_bins);
+  Eigen::VectorXd sums = Eigen::VectorXd::Zero(num_bins);
+  Eigen::VectorXi counts = Eigen::VectorXi::Zero(num_bins);
+  for (Eigen::Index i = 0; i < n; ++i) {
+    const Eigen::Index bin =
+        std::min<Eigen::Index>(num_bins - 1, static_cast<Eigen::Index>((x[i] - x[0]) / width));
+    sums[bin] += y[i];
+    ++counts[bin];
+  }
+  Eigen::VectorXd samples(num_bins);
+  for (Eigen::Index j = 0; j < num_bins; ++j) {
+    samples[j] = counts[j] > 0 ? sums[j] / counts[j]
+                               : internal::InterpolateLinear(x, y, x[0] + (j + 0.5) * width);
+  }
+  *spacing = width;
+  return samples;
+}
+
 }  // namespace
 
 bool MatrixPencilOptions::Validate(std::string* error) const {
@@ -78,18 +103,25 @@ ExponentialSum FitExponentialSum(const Eigen::VectorXd& x, const Eigen::VectorXd
 
   // The even grid the pencil works on.
   const Eigen::Index n = x.size();
-  const Eigen::Index num_samples = std::min<Eigen::Index>(n, options.max_samples);
-  out.was_resampled = num_samples != n || !IsEven(x, options.even_tolerance);
+  const bool is_even = IsEven(x, options.even_tolerance);
   Eigen::VectorXd samples = y;
-  if (out.was_resampled) {
-    samples.resize(num_samples);
-    const Eigen::VectorXd grid = Eigen::VectorXd::LinSpaced(num_samples, x[0], x[n - 1]);
-    for (Eigen::Index j = 0; j < num_samples; ++j) {
-      samples[j] = internal::InterpolateLinear(x, y, grid[j]);
-    }
+  out.sample_spacing = (x[n - 1] - x[0]) / static_cast<double>(n - 1);
+  if (n > options.max_samples && is_even) {
+    // Means of m consecutive points: exactly even again, spacing m D.
+    const Eigen::Index m = (n + options.max_samples - 1) / options.max_samples;
+    samples.resize(n / m);
+    for (Eigen::Index j = 0; j < samples.size(); ++j) samples[j] = y.segment(j * m, m).mean();
+    out.sample_spacing *= static_cast<double>(m);
+  } else if (n > options.max_samples) {
+    samples = BinAverages(x, y, options.max_samples, &out.sample_spacing);
+  } else if (!is_even) {
+    out.sample_spacing = (x[n - 1] - x[0]) / static_cast<double>(n - 1);
+    const Eigen::VectorXd grid = Eigen::VectorXd::LinSpaced(n, x[0], x[n - 1]);
+    for (Eigen::Index j = 0; j < n; ++j) samples[j] = internal::InterpolateLinear(x, y, grid[j]);
   }
+  out.was_resampled = n > options.max_samples || !is_even;
+  const Eigen::Index num_samples = samples.size();
   out.num_samples = static_cast<int>(num_samples);
-  out.sample_spacing = (x[n - 1] - x[0]) / static_cast<double>(num_samples - 1);
 
   const Eigen::Index pencil = std::clamp<Eigen::Index>(
       std::lround(options.pencil_fraction * num_samples), num_poles, num_samples - num_poles - 1);

@@ -11,8 +11,10 @@
 // Rates are r_m = -ln(z_m) / D; the amplitudes (and the offset) then come from weighted
 // linear least squares on the original points, not the resampled ones.
 //
-// Uneven x is first resampled by linear interpolation onto an even grid of
-// min(n, max_samples) points spanning the data.
+// Uneven x is first resampled by linear interpolation onto an even grid of n points. More
+// than max_samples points are reduced first: even x by means of m = ceil(n / max_samples)
+// consecutive points, uneven x by means over max_samples equal bins (a box average keeps
+// each pole and only rescales its amplitude, which is refitted anyway).
 
 #include <Eigen/Core>
 #include <string>
@@ -31,7 +33,7 @@ struct MatrixPencilOptions {
   // Pencil parameter L as a share of the samples N; Hua & Sarkar recommend N/3 to N/2 for the
   // least noise sensitivity. In [0.2, 0.5]; default 1/3.
   double pencil_fraction = 1.0 / 3.0;
-  // Resampled grid size cap (the SVD costs O(N^3)). >= 16; default 1000.
+  // Cap on the grid the pencil uses (the SVD costs O(N^3)). >= 16; default 1000.
   int max_samples = 1000;
   // Spacings within this relative distance of the median count as even. In [0, 0.1);
   // default 1e-6.
