@@ -73,11 +73,8 @@ std::vector<int> FamilyLinearParameters(const FamilyRequest& request, const Mode
 bool GuessFamily(const FamilyRequest& request, const Model& model, const Dataset& data,
                  const Eigen::VectorXd& lower, const Eigen::VectorXd& upper,
                  const GuessOptions& options, GuessResult* out, std::string* error) {
-  if (options.max_candidates < 1) {
-    return Fail(error,
-                "max_candidates = " + std::to_string(options.max_candidates) + ": must be >= 1");
-  }
   std::string message;
+  if (!options.Validate(&message)) return Fail(error, "guess options: " + message);
   if (!data.Validate(&message)) return Fail(error, message);
   FamilyInstance instance;
   if (!InstantiateFamily(request, &instance, &message)) return Fail(error, message);
