@@ -24,9 +24,24 @@ bash scripts/setup.sh
 echo "== configure (${build_dir}, Release)"
 cmake -S . -B "${build_dir}" -DCMAKE_BUILD_TYPE=Release -DFOOTHOLD_BUILD_TESTS=ON
 
+# Keep going past a target that fails to compile, so that one broken test does not hide
+# the results of all the others; the run still fails at the end.
+keep_going=()
+case "$(sed -n 's/^CMAKE_GENERATOR:INTERNAL=//p' "${build_dir}/CMakeCache.txt")" in
+  "Unix Makefiles") keep_going=(-- -k) ;;
+  Ninja) keep_going=(-- -k 0) ;;
+esac
 echo "== build (-j${jobs})"
-cmake --build "${build_dir}" -j "${jobs}"
+build_status=0
+cmake --build "${build_dir}" -j "${jobs}" "${keep_going[@]}" || build_status=$?
 
 echo "== test"
 cd "${build_dir}"
-ctest --output-on-failure -j "${jobs}" "$@"
+test_status=0
+ctest --output-on-failure -j "${jobs}" "$@" || test_status=$?
+
+if [[ ${build_status} -ne 0 ]]; then
+  echo "test.sh: the build failed (status ${build_status}); the tests above ran on what built" >&2
+  exit 1
+fi
+exit "${test_status}"
