@@ -49,8 +49,10 @@ bool GuessPolynomialFamily(const GuessContext& context, std::string* error) {
   // The line model orders (slope, intercept); the polynomial (c0, c1, ...).
   Eigen::VectorXd start = coefficients;
   if (context.request->name == "line") start = Eigen::Vector2d(coefficients[1], coefficients[0]);
-  // The binned curve is exact for a line only up to binning: refine on the full data.
-  set.Add("lls", start, true);
+  // Bin means make the curve exact for a line but not for higher powers: re-solve on the
+  // full data (kept only when that lowers the rss, e.g. not when badly conditioned).
+  set.RefineLinear(&start, nullptr);
+  set.Add("lls", start, false);
   const double y_scale = std::max(std::abs(curve.y_max), std::abs(curve.y_min));
   for (int j = 0; j < set.NumParameters(); ++j) {
     const int power = context.request->name == "line" ? 1 - j : j;
