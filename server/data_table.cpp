@@ -56,6 +56,12 @@ std::string DataTable::DescribeCell(int column, int row_index) const {
   return prefix + "data." + name + "[" + std::to_string(row_index) + "]";
 }
 
+std::string DataTable::DescribeRow(int row_index) const {
+  const std::string prefix = source_name_.empty() ? "" : source_name_ + ": ";
+  if (!source_rows_.empty()) return prefix + "row " + std::to_string(source_rows_[row_index]);
+  return prefix + "data row " + std::to_string(row_index);
+}
+
 bool DataTableFromCsv(const std::string& text, DataTable* out, std::string* error) {
   CsvDocument document;
   if (!ParseCsv(text, &document, error)) return false;

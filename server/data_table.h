@@ -29,6 +29,8 @@ class DataTable {
   // Where a value came from, in the words of its source: "row 5, column 'y'" for CSV
   // (spreadsheet rows, header = 1) or "data.y[3]" for columns given as arrays.
   std::string DescribeCell(int column, int row_index) const;
+  // The same for a whole row: "data.csv: row 5" or "data row 3" (0-based, for arrays).
+  std::string DescribeRow(int row_index) const;
   // Records the CSV row number of each data row, switching DescribeCell to CSV wording.
   void SetSourceRows(std::vector<int> rows) { source_rows_ = std::move(rows); }
   // Names the file the rows came from; DescribeCell then starts with "PATH: ".

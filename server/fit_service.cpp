@@ -51,6 +51,16 @@ std::set<std::string> IdentifiersIn(const std::string& text) {
   return names;
 }
 
+// The engine counts rows from 0; the user thinks in the rows of their file.
+std::string RenumberRow(const DataTable& table, const std::string& message) {
+  static const std::regex kRow("^row ([0-9]+)");
+  std::smatch match;
+  if (!std::regex_search(message, match, kRow)) return message;
+  const long index = std::stol(match[1].str());
+  if (index < 0 || index >= table.NumRows()) return message;
+  return table.DescribeRow(static_cast<int>(index)) + match.suffix().str();
+}
+
 // The response vector and the columns it used (which are then no predictors).
 bool BuildResponse(const FitRequest& request, Eigen::VectorXd* response,
                    std::set<std::string>* used_columns, std::string* error) {
@@ -69,7 +79,7 @@ bool BuildResponse(const FitRequest& request, Eigen::VectorXd* response,
   std::string expression_error;
   if (!EvaluateColumnExpression(request.response, table.ColumnNames(), table.ToMatrix(), response,
                                 &expression_error)) {
-    *error = "response '" + request.response + "': " + expression_error;
+    *error = "response '" + request.response + "': " + RenumberRow(table, expression_error);
     return false;
   }
   for (const std::string& name : IdentifiersIn(request.response)) {

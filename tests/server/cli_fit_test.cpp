@@ -259,6 +259,14 @@ TEST_CASE("Cli: a transformed response is fitted", "[server]") {
         Approx(std::log(2.0)));
 }
 
+TEST_CASE("Cli: a response expression that is not finite names the file row", "[server]") {
+  TempDir dir;
+  const std::string data = dir.Write("low.csv", "x,y\n1,2\n2,-3\n3,4\n");
+  CheckBadInput(
+      Run(FitArgs(data, {"--family", "line", "--y", "log(y)", "--start", "slope=0,intercept=0"})),
+      "response 'log(y)': " + data + ": row 3");
+}
+
 TEST_CASE("Cli: a request document fits and DATA overrides its data", "[server]") {
   TempDir dir;
   const std::string request =
