@@ -6,11 +6,15 @@
 #include <sstream>
 
 #include "heuristics/signal/internal/curve_checks.h"
+#include "heuristics/signal/internal/robust_stats.h"
 #include "heuristics/signal/noise.h"
 
 namespace foothold {
 namespace signal {
 namespace {
+
+// FWHM / (distance between the inflection points) for a Gaussian: 2 sqrt(2 ln 2) sigma / 2 sigma.
+constexpr double kFwhmPerInflectionSpan = 1.1774100225154747;
 
 // x where the polyline through (x, s) first drops below `level`, walking from `apex`
 // towards `stop` (step -1 or +1). False when it never does before passing `stop`.
@@ -97,6 +101,85 @@ bool MeasurePeak(const Eigen::VectorXd& x, const SmoothedCurve& smooth, const Ba
   return true;
 }
 
+// First zero of the polyline (x, d2) walking from i while d2 < 0; false at the data end.
+bool FindCurvatureZero(const Eigen::VectorXd& x, const Eigen::VectorXd& d2, Eigen::Index i,
+                       int step, double* at, Eigen::Index* index) {
+  for (Eigen::Index j = i + step; j >= 0 && j < d2.size(); j += step) {
+    if (d2[j] >= 0.0) {
+      const Eigen::Index inner = j - step;
+      const double rise = d2[j] - d2[inner];
+      const double fraction = rise > 0.0 ? std::clamp(-d2[inner] / rise, 0.0, 1.0) : 0.0;
+      *at = x[inner] + fraction * (x[j] - x[inner]);
+      *index = j;
+      return true;
+    }
+  }
+  return false;
+}
+
+// Abscissa of the vertex of the parabola through three points (Newton form), kept in
+// [x0, x2]; the middle point when the parabola does not open upwards.
+double ParabolaMinimum(double x0, double y0, double x1, double y1, double x2, double y2) {
+  const double slope01 = (y1 - y0) / (x1 - x0);
+  const double slope12 = (y2 - y1) / (x2 - x1);
+  const double c = (slope12 - slope01) / (x2 - x0);
+  if (!(c > 0.0)) return x1;
+  return std::clamp(0.5 * (x0 + x1) - slope01 / (2.0 * c), x0, x2);
+}
+
+// Appends the shoulders (see peaks.h) of the signed signal to `peaks`, with heights in the
+// caller's orientation (times `sign`).
+void AddShoulders(const Eigen::VectorXd& x, const SmoothedCurve& smooth, const Baseline& baseline,
+                  const PeakOptions& options, double threshold, double sign,
+                  std::vector<Peak>* peaks) {
+  const Eigen::VectorXd& s = smooth.value;
+  const Eigen::VectorXd& d2 = smooth.second_derivative;
+  const Eigen::Index n = d2.size();
+  const double spread = internal::kMadToSigma * internal::MedianAbsoluteDeviation(
+                                                    std::vector<double>(d2.data(), d2.data() + n));
+  const double limit = -options.shoulder_curvature_sigmas * spread;
+  std::vector<Eigen::Index> minima;
+  for (Eigen::Index i = 1; i + 1 < n; ++i) {
+    if (d2[i] < d2[i - 1] && d2[i] <= d2[i + 1] && d2[i] < std::min(limit, 0.0)) {
+      minima.push_back(i);
+    }
+  }
+  std::sort(minima.begin(), minima.end(),
+            [&d2](Eigen::Index a, Eigen::Index b) { return d2[a] < d2[b]; });
+  const size_t num_peaks = peaks->size();
+  std::vector<Eigen::Index> accepted;
+  for (Eigen::Index i : minima) {
+    bool is_taken = false;
+    for (size_t k = 0; k < num_peaks && !is_taken; ++k) {
+      const Peak& peak = (*peaks)[k];
+      const double core = std::max(0.5 * peak.fwhm, std::abs(x[peak.apex_index] - peak.center));
+      is_taken = std::abs(x[i] - peak.center) <= core;
+    }
+    for (Eigen::Index j : accepted) is_taken = is_taken || std::abs(i - j) <= smooth.half_window;
+    if (is_taken) continue;
+    double low = 0.0, high = 0.0;
+    Eigen::Index left = i, right = i;
+    const bool has_low = FindCurvatureZero(x, d2, i, -1, &low, &left);
+    const bool has_high = FindCurvatureZero(x, d2, i, +1, &high, &right);
+    if (!has_low && !has_high) continue;
+    Peak shoulder;
+    shoulder.center = ParabolaMinimum(x[i - 1], d2[i - 1], x[i], d2[i], x[i + 1], d2[i + 1]);
+    shoulder.height = s[i] - baseline.At(shoulder.center);
+    if (shoulder.height < threshold) continue;
+    const double span = has_low && has_high
+                            ? high - low
+                            : 2.0 * (has_low ? shoulder.center - low : high - shoulder.center);
+    shoulder.fwhm = kFwhmPerInflectionSpan * span;
+    shoulder.apex_index = static_cast<int>(i);
+    shoulder.left_index = static_cast<int>(left);
+    shoulder.right_index = static_cast<int>(right);
+    shoulder.is_shoulder = true;
+    shoulder.height *= sign;  // back to the caller's orientation, as for the peaks
+    accepted.push_back(i);
+    peaks->push_back(shoulder);
+  }
+}
+
 }  // namespace
 
 bool PeakOptions::Validate(std::string* error) const {
@@ -106,6 +189,9 @@ bool PeakOptions::Validate(std::string* error) const {
     text << "min_prominence_sigmas = " << min_prominence_sigmas << ": must be finite and >= 0";
   } else if (!(min_prominence_fraction >= 0.0 && min_prominence_fraction < 1.0)) {
     text << "min_prominence_fraction = " << min_prominence_fraction << ": must be in [0, 1)";
+  } else if (!(shoulder_curvature_sigmas >= 0.0) || !std::isfinite(shoulder_curvature_sigmas)) {
+    text << "shoulder_curvature_sigmas = " << shoulder_curvature_sigmas
+         << ": must be finite and >= 0";
   } else if (max_peaks < 0) {
     text << "max_peaks = " << max_peaks << ": must be >= 0 (0 keeps all)";
   } else if (!smoothing.Validate(&nested)) {
@@ -167,6 +253,13 @@ PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const Pea
   for (const auto& entry : by_apex) out.peaks.push_back(entry.second);
   std::stable_sort(out.peaks.begin(), out.peaks.end(),
                    [](const Peak& a, const Peak& b) { return a.prominence > b.prominence; });
+  if (options.find_shoulders) {
+    AddShoulders(x, smooth, baseline, options, out.prominence_threshold, sign, &out.peaks);
+    std::stable_sort(out.peaks.begin(), out.peaks.end(), [](const Peak& a, const Peak& b) {
+      if (a.is_shoulder != b.is_shoulder) return !a.is_shoulder;
+      return a.is_shoulder ? a.height > b.height : a.prominence > b.prominence;
+    });
+  }
   if (options.max_peaks > 0 && out.peaks.size() > static_cast<size_t>(options.max_peaks)) {
     out.peaks.resize(static_cast<size_t>(options.max_peaks));
   }

@@ -11,6 +11,15 @@
 // half height (an overlapped shoulder), the level half way down the prominence is used.
 // Peaks whose prominence is below max(min_prominence_sigmas * noise sigma,
 // min_prominence_fraction * (max y - min y)) are dropped.
+//
+// Shoulders (find_shoulders): a Gaussian's second derivative has its minimum at the center
+// and crosses zero at center +- sigma, and an overlapped neighbour only tilts that pattern.
+// So each significant local minimum of the smoothed second derivative that lies outside the
+// half-height core of every peak found is a shoulder: center at the minimum (parabolic
+// vertex), FWHM = sqrt(2 ln 2) * (distance between the two zero crossings), or twice the
+// one-sided distance when only one side crosses; height above the baseline at least the
+// prominence threshold. Minima closer than a half-window to a deeper one are the same
+// shoulder.
 
 #include <Eigen/Core>
 #include <string>
@@ -34,6 +43,12 @@ struct PeakOptions {
   double min_prominence_fraction = 0.01;
   // Keep at most this many peaks (the most prominent). 0 keeps all; default 0.
   int max_peaks = 0;
+  // Also report shoulders: overlapped peaks without a maximum of their own, found as
+  // minima of the smoothed second derivative (see FindPeaks). Default false.
+  bool find_shoulders = false;
+  // A shoulder's second-derivative minimum must be below -shoulder_curvature_sigmas times
+  // the robust spread (1.4826 MAD) of the second derivative over the curve. >= 0; default 4.
+  double shoulder_curvature_sigmas = 4.0;
   // Smoothing; its automatic window is the default. Order 4 keeps peak tops sharp.
   SavitzkyGolayOptions smoothing = DefaultSmoothing();
   // The baseline that heights are measured from (for dips, of the negated signal).
@@ -56,6 +71,7 @@ struct Peak {
   int left_index = 0;       // index range of the peak: its left base ...
   int right_index = 0;      // ... and its right base
   bool is_width_from_prominence = false;  // width used the half-prominence level
+  bool is_shoulder = false;  // no maximum of its own: prominence is 0, listed after peaks
 };
 
 struct PeakList {

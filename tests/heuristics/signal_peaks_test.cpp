@@ -152,6 +152,38 @@ TEST_CASE("FindPeaks: overlapped peaks report prominence below height", "[heuris
   CHECK_FALSE(found.peaks[0].is_width_from_prominence);
 }
 
+TEST_CASE("FindPeaks: shoulders without a maximum of their own when asked", "[heuristics]") {
+  // 2.5 sigma apart, heights 5 and 3: the sum has a single maximum.
+  const std::vector<GaussianPeak> truth = {{5.0, 40.0, 2.0}, {3.0, 45.0, 2.0}};
+  std::mt19937 rng(3);
+  std::normal_distribution<double> noise(0.0, kNoise);
+  const int n = 1000;
+  const Eigen::VectorXd x = Eigen::VectorXd::LinSpaced(n, 0.0, 100.0);
+  Eigen::VectorXd y(n);
+  for (int i = 0; i < n; ++i) y[i] = Evaluate(truth, 1.0, 0.01, x[i]) + noise(rng);
+  PeakOptions options;
+  REQUIRE(FindPeaks(x, y, options).peaks.size() == 1);
+  options.find_shoulders = true;
+  const PeakList found = FindPeaks(x, y, options);
+  REQUIRE(found.IsOk());
+  REQUIRE(found.peaks.size() == 2);
+  CHECK_FALSE(found.peaks[0].is_shoulder);
+  const Peak& shoulder = found.peaks[1];
+  CHECK(shoulder.is_shoulder);
+  CHECK(shoulder.prominence == 0.0);
+  // Guesses, not fits: the larger neighbour tilts the curvature and narrows the span.
+  CHECK(shoulder.center == Approx(45.0).margin(1.0));
+  CHECK(shoulder.height == Approx(3.0).epsilon(0.2));
+  CHECK(shoulder.fwhm == Approx(kFwhmPerSigma * 2.0).epsilon(0.4));
+  CHECK(shoulder.left_index < shoulder.apex_index);
+  CHECK(shoulder.apex_index < shoulder.right_index);
+
+  // Well separated peaks give no shoulders.
+  const PreparedCurve separated = MakeCurve(kThreePeaks, 1.0, kNoise, 2024);
+  const PeakList three = FindPeaks(separated.x, separated.y, options);
+  CHECK(three.peaks.size() == 3);
+}
+
 TEST_CASE("FindPeaks: max_peaks keeps the most prominent", "[heuristics]") {
   const PreparedCurve curve = MakeCurve(kThreePeaks, 1.0, 0.05, 99);
   PeakOptions options;
