@@ -356,11 +356,12 @@ DATA                     CSV with a header row naming the columns, or a .json fi
                          below override its fields
 --family NAME            a catalogue family (see foothold families)
 --degree D               polynomial degree (family polynomial)
---peaks K                number of peaks (families multi_*)
+--peaks K|auto           number of peaks (families multi_*); auto picks it by AICc
 --expr EXPR              a model written as maths in the data columns and free parameters,
                          e.g. "h*exp(-(x-m)^2/(2*s^2))"
 --params a,b,...         parameter order of --expr (default: order of first use)
---start a=1,b=2          start values; every free parameter needs one for now
+--start a=1,b=2          start values; a family guesses the missing ones from the data,
+                         an expression needs one for every free parameter
 --fix c=0                hold parameters at these values
 --bounds a=0:inf,b=-1:1  lower:upper per parameter; an empty side or inf means unbounded
 --y COLUMN               response: a column or an expression in the columns such as

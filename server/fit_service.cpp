@@ -1,5 +1,6 @@
 #include "server/fit_service.h"
 
+#include <cctype>
 #include <chrono>
 #include <cmath>
 #include <limits>
@@ -55,7 +56,7 @@ std::set<std::string> IdentifiersIn(const std::string& text) {
 std::string RenumberRow(const DataTable& table, const std::string& message) {
   static const std::regex kRow("^row ([0-9]+)");
   std::smatch match;
-  if (!std::regex_search(message, match, kRow)) return message;
+  if (!std::regex_search(message, match, kRow) || match[1].length() > 9) return message;
   const long index = std::stol(match[1].str());
   if (index < 0 || index >= table.NumRows()) return message;
   return table.DescribeRow(static_cast<int>(index)) + match.suffix().str();
