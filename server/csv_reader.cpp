@@ -22,7 +22,7 @@ std::string Trim(const std::string& text) {
 // A cursor over the text that knows which line it is on.
 class CsvScanner {
  public:
-  explicit CsvScanner(const std::string& text) : text_(text) {
+  CsvScanner(const std::string& text, char delimiter) : text_(text), delimiter_(delimiter) {
     // A UTF-8 byte order mark is an encoding marker, not part of the first header name.
     if (text_.compare(0, 3, "\xEF\xBB\xBF") == 0) pos_ = 3;
   }
@@ -48,7 +48,7 @@ class CsvScanner {
       fields->push_back(std::move(field));
       if (AtEnd()) break;
       const char c = text_[pos_];
-      if (c == ',') {
+      if (c == delimiter_) {
         ++pos_;
         continue;
       }
@@ -60,6 +60,9 @@ class CsvScanner {
   }
 
  private:
+  // Spaces around a field, and tabs unless the tab separates fields.
+  bool IsPadding(char c) const { return c == ' ' || (c == '\t' && delimiter_ != '\t'); }
+
   char Peek() const { return AtEnd() ? '\0' : text_[pos_]; }
 
   bool AtLineEnd() const { return AtEnd() || text_[pos_] == '\n' || text_[pos_] == '\r'; }
@@ -77,14 +80,14 @@ class CsvScanner {
 
   bool ReadField(std::string* field, bool* quoted, int start_line, std::string* error) {
     size_t probe = pos_;
-    while (probe < text_.size() && IsBlank(text_[probe])) ++probe;
+    while (probe < text_.size() && IsPadding(text_[probe])) ++probe;
     if (probe < text_.size() && text_[probe] == '"') {
       pos_ = probe + 1;
       *quoted = true;
       return ReadQuoted(field, start_line, error);
     }
     const size_t begin = pos_;
-    while (!AtLineEnd() && text_[pos_] != ',') ++pos_;
+    while (!AtLineEnd() && text_[pos_] != delimiter_) ++pos_;
     *field = Trim(text_.substr(begin, pos_ - begin));
     return true;
   }
@@ -108,25 +111,44 @@ class CsvScanner {
       if (c == '\n') ++line_;
       field->push_back(c);
     }
-    while (!AtEnd() && IsBlank(text_[pos_])) ++pos_;
-    if (!AtLineEnd() && text_[pos_] != ',') {
+    while (!AtEnd() && IsPadding(text_[pos_])) ++pos_;
+    if (!AtLineEnd() && text_[pos_] != delimiter_) {
       *error = "row " + std::to_string(start_line) + ": unexpected character '" +
-               std::string(1, text_[pos_]) + "' after a closing quote: expected ',' or a line end";
+               std::string(1, text_[pos_]) + "' after a closing quote: expected '" +
+               std::string(1, delimiter_) + "' or a line end";
       return false;
     }
     return true;
   }
 
   const std::string& text_;
+  const char delimiter_;
   size_t pos_ = 0;
   int line_ = 1;
 };
 
 }  // namespace
 
+char DetectDelimiter(const std::string& text) {
+  size_t begin = 0;
+  while (begin < text.size()) {
+    size_t end = text.find('\n', begin);
+    if (end == std::string::npos) end = text.size();
+    const std::string line = Trim(text.substr(begin, end - begin));
+    begin = end + 1;
+    if (line.empty() || line == "\r" || line[0] == '#') continue;
+    // Instruments write tab- or semicolon-separated files; a comma in the header wins.
+    if (line.find(',') != std::string::npos) return ',';
+    if (line.find('\t') != std::string::npos) return '\t';
+    if (line.find(';') != std::string::npos) return ';';
+    return ',';
+  }
+  return ',';
+}
+
 bool ParseCsv(const std::string& text, CsvDocument* out, std::string* error) {
   CsvDocument document;
-  CsvScanner scanner(text);
+  CsvScanner scanner(text, DetectDelimiter(text));
   bool have_header = false;
   std::vector<std::string> fields;
   while (!scanner.AtEnd()) {

@@ -20,7 +20,11 @@ struct CsvDocument {
   std::vector<CsvRecord> records;
 };
 
-// Splits `text` into a header and records. Accepts LF and CRLF line ends, a UTF-8 byte
+// The field separator: ',' when the header line has a comma, else a tab, else ';'.
+char DetectDelimiter(const std::string& text);
+
+// Splits `text` into a header and records, fields separated by DetectDelimiter(text).
+// Accepts LF and CRLF line ends, a UTF-8 byte
 // order mark, quoted fields with "" escapes (which may span lines) and trailing blank
 // lines; unquoted fields are trimmed of spaces and tabs. False with a message naming the
 // row on a field-count mismatch, an unterminated quote, an empty or duplicated header

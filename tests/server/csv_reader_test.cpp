@@ -126,3 +126,19 @@ TEST_CASE("DataTable: columns must agree in length and name", "[server]") {
   CHECK(error == "column 'x' is given twice");
   CHECK(table.DescribeCell(0, 2) == "data.x[2]");
 }
+
+TEST_CASE("CsvReader: tab- and semicolon-separated files are read by their header", "[server]") {
+  CsvDocument document;
+  std::string error;
+  CHECK(foothold::DetectDelimiter("# note, with a comma\nx\ty\n1\t2\n") == '\t');
+  REQUIRE(ParseCsv("x\ty\n1\t\"2\"\n\t3\n", &document, &error));
+  CHECK(document.header == std::vector<std::string>{"x", "y"});
+  REQUIRE(document.records.size() == 2);
+  CHECK(document.records[0].fields == std::vector<std::string>{"1", "2"});
+  CHECK(document.records[1].fields == std::vector<std::string>{"", "3"});
+  REQUIRE(ParseCsv("x;y\r\n1;2\r\n", &document, &error));
+  CHECK(document.records[0].fields == std::vector<std::string>{"1", "2"});
+  DataTable table;
+  CHECK_FALSE(DataTableFromCsv("x;y\n1,5;2\n", &table, &error));
+  CHECK(error == "row 2, column 'x': '1,5' is not a number");
+}
