@@ -40,6 +40,8 @@ constexpr double kCertifiedSdDigits = 4.0;
 // Lanczos1's certified RSS (1.43e-25) lies below what double precision resolves at those
 // parameters (README.md, "Quirks"): the check there is that the RSS is tiny.
 constexpr double kLanczos1RssCeiling = 1e-20;
+// Lanczos1's standard deviations inherit the RSS's rounding (see KnownShortfalls below).
+constexpr double kLanczos1SdDigits = 2.5;
 // The model evaluated at the certified values reproduces the certified RSS to 10.0 to 12.7
 // digits in float64 (README.md, "Checks done"); an evaluation order different from NIST's
 // may lose a digit, so 9 is required of the expression model.
@@ -59,15 +61,17 @@ struct ReachedFigures {
 const std::vector<ReachedFigures>& KnownShortfalls() {
   // Lanczos1: the certified standard deviations are sqrt(diag((J^T J)^-1) * rss / dof), so
   // their relative error is half that of the RSS. The RSS (1.43e-25) is a sum of residuals of
-  // about 1e-13 on responses up to 2.5, where rounding of each value is about 5e-16: the RSS
-  // holds about 3 digits (measured RSS LRE 2.7 to 2.8) and the standard deviations 3.0 to
-  // 3.1. The parameters still reach 10.6 and the RSS check (< 1e-20) holds. scipy's MINPACK
-  // (tests/reference/nist_scipy.py) reaches the same 3.0 to 3.4: a float64 limit, not a
-  // solver fault.
+  // about 8e-14 on responses up to 2.5, where rounding of each value is about 4e-16: the RSS
+  // holds about 3 digits (measured RSS LRE 2.6 to 2.9 over solver and expression-evaluation
+  // revisions) and the standard deviations 2.9 to 3.2; the digits move with rounding noise,
+  // so the floor is 2.5. The parameters still reach 10.6, the RSS check (< 1e-20) holds, and
+  // the standard deviations rescaled to the certified RSS must still meet kCertifiedSdDigits
+  // (kLanczos1 check below). scipy's MINPACK (tests/reference/nist_scipy.py) reaches 3.3 to
+  // 3.4 on the raw figure: a float64 limit, not a solver fault.
   static const std::vector<ReachedFigures> shortfalls = {
-      {"Lanczos1", 1, kCertifiedDigits, kCertifiedDigits, 3.0,
+      {"Lanczos1", 1, kCertifiedDigits, kCertifiedDigits, kLanczos1SdDigits,
        "standard deviations limited to ~3 digits by the float64 resolution of RSS ~1e-25"},
-      {"Lanczos1", 2, kCertifiedDigits, kCertifiedDigits, 3.0,
+      {"Lanczos1", 2, kCertifiedDigits, kCertifiedDigits, kLanczos1SdDigits,
        "standard deviations limited to ~3 digits by the float64 resolution of RSS ~1e-25"},
   };
   return shortfalls;
@@ -103,6 +107,9 @@ struct Run {
   double rss_lre = 0;
   double min_sd_lre = 0;
   int worst_sd = -1;
+  // The standard deviations rescaled by sqrt(certified rss / rss): what remains when the
+  // RSS's own rounding is taken out (used for Lanczos1).
+  double min_sd_lre_at_certified_rss = 0;
 };
 
 Run FitFromStart(const NistProblem& p, int start_number) {
@@ -151,6 +158,12 @@ Run FitFromStart(const NistProblem& p, int start_number) {
     }
   }
   run.rss_lre = Lre(run.rss, p.certified_rss);
+  run.min_sd_lre_at_certified_rss = kMaxLre;
+  const double rescale = std::sqrt(p.certified_rss / run.rss);
+  for (int j = 0; j < p.num_params && j < run.standard_errors.size(); ++j) {
+    run.min_sd_lre_at_certified_rss = std::min(
+        run.min_sd_lre_at_certified_rss, Lre(run.standard_errors[j] * rescale, p.certified_sd[j]));
+  }
   return run;
 }
 
@@ -293,6 +306,9 @@ TEST_CASE("NIST StRD: Levenberg-Marquardt from Start 1 and Start 2 reaches the c
     CHECK(r.min_param_lre >= param_digits);
     if (r.problem == "Lanczos1") {
       CHECK(r.rss < kLanczos1RssCeiling);
+      INFO("standard deviations rescaled to the certified RSS: LRE "
+           << r.min_sd_lre_at_certified_rss);
+      CHECK(r.min_sd_lre_at_certified_rss >= kCertifiedSdDigits);
     } else {
       CHECK(r.rss_lre >= rss_digits);
     }
