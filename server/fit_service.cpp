@@ -323,4 +323,24 @@ bool RunFit(const FitRequest& request, FitOutcome* out, std::string* error) {
   return true;
 }
 
+bool RunFit(const FitRequest& request, const FitHooks& hooks, FitOutcome* out,
+            std::string* error) {
+  PreparedFit prepared;
+  if (!PrepareFit(request, &prepared, error)) return false;
+  if (hooks.should_stop) {
+    IterationCallback previous = prepared.solver_options.callback;
+    std::function<bool()> should_stop = hooks.should_stop;
+    prepared.solver_options.callback = [previous, should_stop](int iteration, double cost) {
+      if (should_stop()) return false;
+      return previous ? previous(iteration, cost) : true;
+    };
+  }
+  *out = RunPreparedFit(request, prepared);
+  if (hooks.on_progress) {
+    const int planned = static_cast<int>(out->starts.size());
+    hooks.on_progress(planned, planned, out->statistics.rss);
+  }
+  return true;
+}
+
 }  // namespace foothold

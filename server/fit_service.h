@@ -2,6 +2,7 @@
 // Runs a fit request: validate, build the model and the problem, choose the start,
 // minimise, compute statistics, judge. No JSON; the CLI and the daemon share this path.
 
+#include <functional>
 #include <memory>
 #include <string>
 #include <vector>
@@ -37,5 +38,17 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
 
 // PrepareFit followed by RunPreparedFit.
 bool RunFit(const FitRequest& request, FitOutcome* out, std::string* error);
+
+// Progress and cancellation of a running fit (the daemon's jobs). Both optional; called
+// from the fitting threads.
+struct FitHooks {
+  std::function<void(int starts_finished, int starts_planned, double best_rss)> on_progress;
+  std::function<bool()> should_stop;
+};
+
+// RunFit with hooks: should_stop is checked at every solver iteration (true stops the fit
+// with termination "cancelled"), on_progress is called when a start finishes.
+bool RunFit(const FitRequest& request, const FitHooks& hooks, FitOutcome* out,
+            std::string* error);
 
 }  // namespace foothold
