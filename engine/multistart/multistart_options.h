@@ -96,6 +96,9 @@ struct MultistartOptions {
   // own cancellation check (from the worker threads concurrently, so it must be
   // thread-safe); its deadline is shortened to what remains of deadline_seconds.
   LevenbergMarquardtOptions local;
+  // Each local fit projects out free, unbounded linear parameters (variable projection,
+  // engine/solve/local_fit.h). Default true; the start log records full parameters either way.
+  bool use_variable_projection = true;
   // Options of the statistics at each basin's representative point (standard errors).
   StatisticsOptions statistics;
 

@@ -7,6 +7,7 @@
 #include <sstream>
 
 #include "engine/solve/levenberg_marquardt.h"
+#include "engine/solve/local_fit.h"
 #include "engine/stats/fit_statistics.h"
 
 namespace foothold {
@@ -109,8 +110,10 @@ StartRecord MultistartRun::RunStart(const PlannedStart& planned, int worker) {
     if (IsCancelled()) return false;
     return !user_callback || user_callback(iteration, cost);
   };
-  const LocalFitSummary fit =
-      MinimizeLevenbergMarquardt(worker_problems_[worker], planned.start, local);
+  LocalFitOptions fit_options;
+  fit_options.lm = local;
+  fit_options.use_variable_projection = options_.use_variable_projection;
+  const LocalFitSummary fit = RunLocalFit(worker_problems_[worker], planned.start, fit_options);
 
   StartRecord record;
   record.index = planned.index;
