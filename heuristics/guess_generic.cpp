@@ -25,6 +25,8 @@ constexpr int kDesignBudget = 1024;
 // Best design points refined by coordinate sweeps, and the sweeps over the grid.
 constexpr int kNumSwept = 4;
 constexpr int kNumSweeps = 3;
+// Evaluations all sweeps together may spend, so that models with many parameters stay cheap.
+constexpr int kSweepBudget = 8192;
 // Best distinct design points polished, and the iterations each polish may take.
 constexpr int kNumPolished = 6;
 constexpr int kPolishIterations = 40;
@@ -174,13 +176,14 @@ struct Scored {
 // parameter with the others held): cheap, and it resolves parameters the design left
 // coarse, such as the centers of several peaks or the periods of several cycles.
 Scored Sweep(Scored point, const std::vector<std::vector<double>>& levels,
-             SampleEvaluator* evaluator) {
-  for (int sweep = 0; sweep < kNumSweeps; ++sweep) {
+             SampleEvaluator* evaluator, int* budget) {
+  for (int sweep = 0; sweep<kNumSweeps&& * budget> 0; ++sweep) {
     bool improved = false;
     for (size_t k = 0; k < levels.size(); ++k) {
       Scored trial = point;
-      for (size_t l = 0; l < levels[k].size(); ++l) {
+      for (size_t l = 0; l < levels[k].size() && *budget > 0; ++l) {
         if (static_cast<int>(l) == point.index[k]) continue;
+        --*budget;
         trial.index[k] = static_cast<int>(l);
         trial.theta[k] = levels[k][l];
         trial.rss = evaluator->Cost(trial.theta);
@@ -334,7 +337,10 @@ bool GuessGeneric(const Model& model, const Dataset& data, const Eigen::VectorXd
   auto by_rss = [](const Scored& a, const Scored& b) { return a.rss < b.rss; };
   std::stable_sort(scored.begin(), scored.end(), by_rss);
   const size_t num_swept = std::min<size_t>(kNumSwept, scored.size());
-  for (size_t k = 0; k < num_swept; ++k) scored.push_back(Sweep(scored[k], levels, &evaluator));
+  int sweep_budget = kSweepBudget;
+  for (size_t k = 0; k < num_swept; ++k) {
+    scored.push_back(Sweep(scored[k], levels, &evaluator, &sweep_budget));
+  }
   std::stable_sort(scored.begin(), scored.end(), by_rss);
 
   KeepCandidates(problem, PolishBest(problem, scored, options.max_candidates, &evaluator),

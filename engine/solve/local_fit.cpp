@@ -114,7 +114,11 @@ LocalFitSummary RunLocalFit(const Problem& problem, const Eigen::VectorXd& start
                                : CancellationRatio(problem, split, projected.parameters);
       if (ratio <= kMaxCancellation) return projected;
       // A valley at infinity: plain LM from the same start, keeping the lower rss.
-      LocalFitSummary plain = MinimizeLevenbergMarquardt(problem, start, options.lm);
+      // The fallback gets what is left of the deadline, not a fresh one.
+      LevenbergMarquardtOptions lm = options.lm;
+      lm.deadline_seconds = options.lm.deadline_seconds - projected.total_seconds;
+      if (!(lm.deadline_seconds > 0)) return projected;
+      LocalFitSummary plain = MinimizeLevenbergMarquardt(problem, start, lm);
       std::ostringstream message;
       const bool plain_better = !(projected.final_cost <= plain.final_cost);
       message << (plain_better ? kPlainPrefix : kProjectionPrefix)

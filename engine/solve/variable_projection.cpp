@@ -79,6 +79,7 @@ void ProjectedModel::FillFull(const double* theta) const {
 bool ProjectedModel::SolveLinear(const Eigen::MatrixXd& x, const double* theta) const {
   FillFull(theta);
   const int n = static_cast<int>(values_.size());
+  assert(x.rows() == n);
   values_.setConstant(kNaN);
   jacobian_.setConstant(kNaN);
   model_->EvaluateWithJacobian(x, full_.data(), values_.data(), jacobian_.data());
