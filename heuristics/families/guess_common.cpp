@@ -338,7 +338,8 @@ bool BestOnCurve(const CandidateSet& set, const Curve& curve,
 
 void PolishProfile(const CandidateSet& set, const Curve& curve, const std::vector<int>& free,
                    std::vector<double> steps, const std::vector<bool>& multiplicative,
-                   int max_evaluations, Eigen::VectorXd* parameters) {
+                   int max_evaluations, Eigen::VectorXd* parameters, double min_positive,
+                   double max_positive) {
   // Steps below this share of their start size have converged.
   constexpr double kMinStepShare = 1e-4;
   Eigen::VectorXd best = *parameters;
@@ -358,6 +359,10 @@ void PolishProfile(const CandidateSet& set, const Curve& curve, const std::vecto
         trial[j] = multiplicative[k] ? trial[j] * std::exp(direction * steps[k])
                                      : trial[j] + direction * steps[k];
         if (!(trial[j] >= set.Lower()[j] && trial[j] <= set.Upper()[j])) continue;
+        if (multiplicative[k] &&
+            (std::abs(trial[j]) < min_positive || std::abs(trial[j]) > max_positive)) {
+          continue;
+        }
         const double rss = set.RefineLinear(&trial, &curve);
         ++evaluations;
         if (rss < best_rss) {

@@ -3,6 +3,7 @@
 // candidate set that clamps, refines, scores and ranks the starts a guesser proposes.
 
 #include <Eigen/Core>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -132,10 +133,12 @@ bool BestOnCurve(const CandidateSet& set, const Curve& curve,
 // the linear ones solved at every trial: each step tries +-step_j, grows a step that
 // helps by 2 and halves one that does not, for at most max_evaluations trials. Steps of
 // parameters flagged multiplicative scale the value by exp(+-step) instead. Used where a
-// grid leaves the start in a long, curved valley.
+// grid leaves the start in a long, curved valley. Multiplicative parameters are kept >=
+// min_positive and <= max_positive in magnitude (e.g. lifetimes the data can resolve).
 void PolishProfile(const CandidateSet& set, const Curve& curve, const std::vector<int>& free,
                    std::vector<double> steps, const std::vector<bool>& multiplicative,
-                   int max_evaluations, Eigen::VectorXd* parameters);
+                   int max_evaluations, Eigen::VectorXd* parameters, double min_positive = 0.0,
+                   double max_positive = std::numeric_limits<double>::infinity());
 
 // Single exponential a*exp(-x/tau) (+ c when with_offset) by a profile over tau in
 // [tau_lo, tau_hi] (log grid, then a golden refinement), amplitude and offset by weighted

@@ -36,6 +36,18 @@ struct Window {
   Eigen::VectorXd x, y, w;
 };
 
+// A lifetime below the typical first spacing (the mean of the first four) is seen by one
+// point only: it fits that point's noise, not a decay.
+double MinResolvableTau(const Curve& curve) {
+  const int last = std::min(4, curve.NumPoints() - 1);
+  return last > 0 ? (curve.x[last] - curve.x[0]) / last : 0.0;
+}
+
+// Shortest lifetime sought: a share of the span, and never below what the sampling resolves.
+double TauFloor(const Curve& curve) {
+  return std::max(kTauLowShare * curve.XSpan(), MinResolvableTau(curve));
+}
+
 Window Select(const Curve& curve, double from_share, double to_share) {
   const double lo = curve.x_min + from_share * curve.XSpan();
   const double hi = curve.x_min + to_share * curve.XSpan();
@@ -77,7 +89,7 @@ void GuessExpDecay(const Curve& curve, CandidateSet* set) {
   }
   const Curve sub = Subsample(curve, kProfilePoints);
   ExpProfile profile;
-  if (ProfileExponential(sub.x, sub.y, sub.weight, true, kTauLowShare * span, kTauHighShare * span,
+  if (ProfileExponential(sub.x, sub.y, sub.weight, true, TauFloor(curve), kTauHighShare * span,
                          &profile)) {
     set->Add("profile", Eigen::Vector3d(profile.amplitude, profile.tau, profile.offset));
   }
@@ -104,14 +116,14 @@ void GuessBiexpDecay(const Curve& curve, CandidateSet* set) {
   const Curve sub = Subsample(curve, kProfilePoints);
   const Window late = Select(sub, kLateStart, 1.0);
   ExpProfile slow;
-  if (late.x.size() >= 4 && ProfileExponential(late.x, late.y, late.w, true, kTauLowShare * span,
+  if (late.x.size() >= 4 && ProfileExponential(late.x, late.y, late.w, true, TauFloor(curve),
                                                kTauHighShare * span, &slow)) {
     const Window early = Select(sub, 0.0, kEarlyEnd);
     Eigen::VectorXd remainder =
         early.y.array() - slow.amplitude * (-early.x.array() / slow.tau).exp() - slow.offset;
     ExpProfile fast;
-    if (early.x.size() >= 3 && ProfileExponential(early.x, remainder, early.w, false,
-                                                  kTauLowShare * span, slow.tau, &fast)) {
+    if (early.x.size() >= 3 &&
+        ProfileExponential(early.x, remainder, early.w, false, TauFloor(curve), slow.tau, &fast)) {
       Eigen::VectorXd p(5);
       p << fast.amplitude, fast.tau, slow.amplitude, slow.tau, slow.offset;
       set->Add("split", p);
@@ -119,7 +131,7 @@ void GuessBiexpDecay(const Curve& curve, CandidateSet* set) {
   }
   // Profile over (tau1 < tau2) with both amplitudes and the baseline solved linearly.
   std::vector<Eigen::VectorXd> starts;
-  const std::vector<double> taus = Spaced(kTauLowShare * 3 * span, 3 * span, 14, true);
+  const std::vector<double> taus = Spaced(3 * TauFloor(curve), 3 * span, 14, true);
   for (size_t a = 0; a < taus.size(); ++a) {
     for (size_t b = a + 2; b < taus.size(); ++b) {
       Eigen::VectorXd p(5);
@@ -131,7 +143,8 @@ void GuessBiexpDecay(const Curve& curve, CandidateSet* set) {
   if (BestOnCurve(*set, sub, starts, &best)) set->Add("profile", best);
   // Pattern search of both lifetimes (in log) from the best candidate so far.
   if (set->Best(&best)) {
-    PolishProfile(*set, curve, {1, 3}, {0.3, 0.3}, {true, true}, kPolishEvaluations, &best);
+    PolishProfile(*set, curve, {1, 3}, {0.3, 0.3}, {true, true}, kPolishEvaluations, &best,
+                  TauFloor(curve));
     set->Add("polished", best);
   }
   set->SetScale(0, curve.YSpan(), false);
@@ -165,7 +178,7 @@ void GuessStretchedExp(const Curve& curve, CandidateSet* set) {
     }
   }
   const Curve sub = Subsample(curve, kProfilePoints);
-  const std::vector<double> taus = Spaced(kTauLowShare * 3 * span, 10 * span, 20, true);
+  const std::vector<double> taus = Spaced(3 * TauFloor(curve), 10 * span, 20, true);
   std::vector<Eigen::VectorXd> all;
   for (double beta : {0.3, 0.5, 0.7, 1.0, 1.4, 2.0}) {
     std::vector<Eigen::VectorXd> starts;

@@ -330,11 +330,11 @@ bool GuessPeakFamily(const GuessContext& context, std::string* error) {
     const double rss_down = SolveHeights(curve, solve_shape, &down, &baseline);
     if (rss_down < rss_up && down[0].height < 0) sign = -1.0;
   }
-  // The mean stands above the median for peaks and below it for dips; when that reading
-  // and the single-apex one disagree, both directions are proposed and rss decides.
+  // Peaks filling much of the window fool both the skew (mean against median) and the
+  // single-apex reading, so both directions are always proposed and rss decides; the
+  // apex reading only orders them for the scales.
   const std::vector<Seed> detected = ProposeForSign(curve, family, sign, min_fwhm, &set);
-  const double skew_sign = curve.y.mean() >= Quantile(curve.y, 0.5) ? 1.0 : -1.0;
-  if (skew_sign != sign) ProposeForSign(curve, family, -sign, min_fwhm, &set);
+  ProposeForSign(curve, family, -sign, min_fwhm, &set);
   const double default_fwhm = detected[0].fwhm;
 
   // Scales: heights from the y range, centers and widths from the peak widths.
