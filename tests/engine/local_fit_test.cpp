@@ -108,6 +108,24 @@ TEST_CASE("RunLocalFit: projection reaches the optimum of the full problem on fa
   }
 }
 
+TEST_CASE("RunLocalFit: switched off it is exactly plain Levenberg-Marquardt", "[engine]") {
+  BiexpDecayModel model;
+  Eigen::VectorXd truth(5);
+  truth << 3, 0.5, 1.5, 4.0, 0.2;
+  Problem problem;
+  problem.model = &model;
+  problem.data = MakeData(model, truth, 0, 20, 100, 0.02, 8);
+  Eigen::VectorXd start(5);
+  start << 1, 0.3, 1, 6, 0;
+  const LocalFitSummary plain = MinimizeLevenbergMarquardt(problem, start, {});
+  const LocalFitSummary off = RunLocalFit(problem, start, Options(false));
+  CHECK(off.parameters == plain.parameters);
+  CHECK(off.final_cost == plain.final_cost);
+  CHECK(off.num_iterations == plain.num_iterations);
+  CHECK(off.termination == plain.termination);
+  CHECK(off.message == "levenberg-marquardt: projection not used (switched off); " + plain.message);
+}
+
 TEST_CASE("RunLocalFit: projection with sigma weights matches the weighted full problem",
           "[engine]") {
   BiexpDecayModel model;
