@@ -23,8 +23,8 @@ namespace {
 constexpr double kLn10 = 2.302585092994046;
 constexpr double kPlateauShare = 0.15;
 constexpr int kProfilePoints = 250;
-// Iterations of each coarse logistic5 run on the subsampled curve.
-constexpr int kCoarseIterations = 50;
+// Iterations of each coarse logistic5 run on the prepared curve.
+constexpr int kCoarseIterations = 200;
 
 // Running mean over about 2% of the points either side, for crossings and slopes.
 Eigen::VectorXd RunningMean(const Eigen::VectorXd& y) {
@@ -68,9 +68,10 @@ double MidSlope(const Curve& curve, const Eigen::VectorXd& smooth, double low, d
 // logistic5: with asymmetry != 1 the mirrored reading (top, bottom, -hill) is a different
 // curve with its own basin, and asymmetry trades against log_ec50 and hill along a long
 // curved valley that grids and pattern searches follow poorly. So for both readings and a
-// few asymmetries (the midpoint kept where the data put it), a short Levenberg-Marquardt
-// run on the subsampled curve (a coarse, cheap problem) walks the valley; the best end of
-// each reading becomes a candidate, scored like every other on the full data.
+// few asymmetries (the midpoint kept where the data put it), a Levenberg-Marquardt run on
+// the prepared curve (at most kMaxCurvePoints bin means: a coarse, cheap problem) walks the
+// valley; the best end of each reading becomes a candidate, scored like every other on the
+// full data.
 void ScanAsymmetry(const Curve& sub, const Eigen::VectorXd& symmetric, CandidateSet* set,
                    const Model& model) {
   const double mid_x =
@@ -157,7 +158,7 @@ void GuessLogistic(const Curve& curve, bool five, CandidateSet* set, const Model
   }
   Eigen::VectorXd best;
   if (BestOnCurve(*set, sub, starts, &best)) set->Add("profile", best);
-  if (five && set->Best(&best)) ScanAsymmetry(sub, best, set, model);
+  if (five && set->Best(&best)) ScanAsymmetry(curve, best, set, model);
   set->SetScale(0, curve.YSpan(), false);
   set->SetScale(1, curve.YSpan(), false);
   set->SetScale(2, std::max(span / 4, std::abs(curve.x_min + 0.5 * span)), false);
