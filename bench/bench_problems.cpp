@@ -107,8 +107,8 @@ std::vector<BenchProblem> GenerateProblems() {
                           10, 0.1, gaussian, GaussianStart(gaussian), 1));
   // Each parameter 10-20% off, signs mixed.
   const std::vector<double> three = {5.0, 2.5, 0.6, 8.0, 5.0, 0.8, 4.0, 7.5, 0.7, 1.0};
-  const std::vector<double> off = {+0.15, -0.10, +0.20, -0.12, +0.10, -0.18,
-                                   +0.20, -0.10, +0.15, -0.15};
+  const std::vector<double> off = {+0.15, -0.10, +0.20, -0.12, +0.10,
+                                   -0.18, +0.20, -0.10, +0.15, -0.15};
   std::vector<double> three_start;
   for (size_t k = 0; k < three.size(); ++k) three_start.push_back(three[k] * (1 + off[k]));
   problems.push_back(Make("P2", "three gaussians + baseline, 10 parameters, 2000 points",

@@ -95,10 +95,11 @@ int main(int argc, char** argv) {
     return result;
   };
 
-  std::printf("multistart: %d starts of P2 (10 parameters, %d points), round size %d\n",
-              num_starts, n, MultistartOptions().round_size);
-  std::printf("| pair | 1 thread s | 2 threads s | throughput ratio | cpu/wall (2 threads) | "
-              "load |\n|---|---|---|---|---|---|\n");
+  std::printf("multistart: %d starts of P2 (10 parameters, %d points), round size %d\n", num_starts,
+              n, MultistartOptions().round_size);
+  std::printf(
+      "| pair | 1 thread s | 2 threads s | throughput ratio | cpu/wall (2 threads) | "
+      "load |\n|---|---|---|---|---|---|\n");
   std::vector<double> ratios, one, two, usage;
   for (int pair = 0; pair < pairs; ++pair) {
     Run a, b;
@@ -123,8 +124,7 @@ int main(int argc, char** argv) {
                 b.cpu / b.wall, bench::LoadAverage());
   }
   std::printf("starts per second: 1 thread %.0f, 2 threads %.0f; best rss %.12g\n",
-              num_starts / bench::Median(one), num_starts / bench::Median(two),
-              run(1).best_rss);
+              num_starts / bench::Median(one), num_starts / bench::Median(two), run(1).best_rss);
   std::printf("RATIO multistart threads2_over_threads1 %.4f\n", bench::Median(ratios));
   std::printf("multistart cpu_per_wall_2threads %.2f load %.1f\n", bench::Median(usage),
               bench::LoadAverage());

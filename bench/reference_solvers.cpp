@@ -112,10 +112,10 @@ class MinpackSolver : public Solver {
     FitResult result;
     result.parameters = problem_.start;
     int nfev = 0, njev = 0;
-    const int info = lmder(&Callback, this, n_, p_, result.parameters.data(), fvec_.data(),
-                           fjac_.data(), n_, kTolerance, kTolerance, 0.0, 200 * (p_ + 1),
-                           diag_.data(), 1, 100.0, 0, &nfev, &njev, ipvt_.data(), qtf_.data(),
-                           wa1_.data(), wa2_.data(), wa3_.data(), wa4_.data());
+    const int info =
+        lmder(&Callback, this, n_, p_, result.parameters.data(), fvec_.data(), fjac_.data(), n_,
+              kTolerance, kTolerance, 0.0, 200 * (p_ + 1), diag_.data(), 1, 100.0, 0, &nfev, &njev,
+              ipvt_.data(), qtf_.data(), wa1_.data(), wa2_.data(), wa3_.data(), wa4_.data());
     result.rss = SumOfSquares(fvec_.data(), n_);
     result.iterations = njev;
     result.evaluations = nfev;
@@ -163,8 +163,8 @@ class EigenLmSolver : public Solver {
   const char* Name() const override { return "eigen_lm"; }
 
   FitResult Fit() override {
-    Eigen::VectorXd x = Eigen::Map<const Eigen::VectorXd>(problem_.start.data(),
-                                                          problem_.start.size());
+    Eigen::VectorXd x =
+        Eigen::Map<const Eigen::VectorXd>(problem_.start.data(), problem_.start.size());
     Eigen::LevenbergMarquardt<EigenFunctor> lm(functor_);
     lm.setFtol(kTolerance);
     lm.setXtol(kTolerance);
@@ -224,7 +224,8 @@ struct BlockResidual {
   template <typename T>
   bool operator()(const T* p, T* r) const {
     const size_t n = problem->x.size();
-    for (size_t i = 0; i < n; ++i) r[i] = PointValue(problem->shape, problem->x[i], p) - problem->y[i];
+    for (size_t i = 0; i < n; ++i)
+      r[i] = PointValue(problem->shape, problem->x[i], p) - problem->y[i];
     return true;
   }
   const BenchProblem* problem;
@@ -251,9 +252,7 @@ void AddResiduals(const BenchProblem& problem, bool one_block_per_point, double*
 class CeresSolver : public Solver {
  public:
   CeresSolver(const BenchProblem& problem, bool one_block_per_point)
-      : problem_(problem),
-        one_block_per_point_(one_block_per_point),
-        parameters_(problem.start) {
+      : problem_(problem), one_block_per_point_(one_block_per_point), parameters_(problem.start) {
     switch (NumParameters(problem.shape)) {
       case 3:
         AddResiduals<3>(problem, one_block_per_point, parameters_.data(), &ceres_problem_);
@@ -276,9 +275,7 @@ class CeresSolver : public Solver {
     options_.logging_type = ceres::SILENT;
     options_.minimizer_progress_to_stdout = false;
   }
-  const char* Name() const override {
-    return one_block_per_point_ ? "ceres_point" : "ceres_block";
-  }
+  const char* Name() const override { return one_block_per_point_ ? "ceres_point" : "ceres_block"; }
 
   FitResult Fit() override {
     parameters_ = problem_.start;  // same storage: the problem keeps the pointer

@@ -8,6 +8,8 @@
 //   foothold_solver_bench --write-data DIR        generate P1..P4 into DIR and exit
 //   foothold_solver_bench [--data DIR] [--rounds N] [--problems P1,P3] [--batch-ms M]
 //   foothold_solver_bench --lower-bound           measured exp and multiply-add costs only
+//   foothold_solver_bench --profile SOLVER --problems P1 [--fits N]
+//                                                 N fits of one solver, untimed (for callgrind)
 
 #include <cmath>
 #include <cstdio>
@@ -73,15 +75,12 @@ class FootholdSolver : public Solver {
     options_.step_tolerance = kTolerance;
     options_.gradient_tolerance = 0;
   }
-  const char* Name() const override {
-    return use_expression_ ? "foothold_expr" : "foothold";
-  }
+  const char* Name() const override { return use_expression_ ? "foothold_expr" : "foothold"; }
 
   FitResult Fit() override {
     const LocalFitSummary summary = MinimizeLevenbergMarquardt(problem_, start_, options_);
     FitResult result;
-    result.parameters.assign(summary.parameters.data(),
-                             summary.parameters.data() + num_reported_);
+    result.parameters.assign(summary.parameters.data(), summary.parameters.data() + num_reported_);
     result.rss = summary.final_cost;
     result.iterations = summary.num_iterations;
     result.evaluations = summary.num_evaluations;
@@ -106,6 +105,8 @@ struct Args {
   double batch_seconds = 0.004;
   std::vector<std::string> problems = {"P1", "P2", "P3", "P4", "P5"};
   bool lower_bound_only = false;
+  std::string profile_solver;  // non-empty: run only this solver, --fits times
+  int num_profile_fits = 100;
 };
 
 std::vector<std::string> Split(const std::string& text) {
@@ -141,6 +142,10 @@ Args ParseArgs(int argc, char** argv) {
       args.batch_seconds = std::max(0.1, std::atof(value().c_str())) * 1e-3;
     } else if (arg == "--problems") {
       args.problems = Split(value());
+    } else if (arg == "--profile") {
+      args.profile_solver = value();
+    } else if (arg == "--fits") {
+      args.num_profile_fits = std::max(1, std::atoi(value().c_str()));
     } else if (arg == "--lower-bound") {
       args.lower_bound_only = true;
     } else {
@@ -210,11 +215,11 @@ double LowerBoundSeconds(const BenchProblem& problem, const FitResult& result,
       break;
   }
   const double n = static_cast<double>(problem.x.size());
-  const double values = result.evaluations * n * (exps_per_point * costs.exp_seconds +
-                                                  value_madds * costs.fma_seconds);
-  const double jacobians = result.jacobian_evaluations * n *
-                           (exps_per_point * costs.exp_seconds +
-                            (value_madds + jacobian_madds) * costs.fma_seconds);
+  const double values = result.evaluations * n *
+                        (exps_per_point * costs.exp_seconds + value_madds * costs.fma_seconds);
+  const double jacobians =
+      result.jacobian_evaluations * n *
+      (exps_per_point * costs.exp_seconds + (value_madds + jacobian_madds) * costs.fma_seconds);
   return values + jacobians;
 }
 
@@ -244,6 +249,15 @@ void RunProblem(const BenchProblem& problem, const std::string& label, bool use_
   add(MakeCeresSolver(problem, false));
   add(MakeGslSolver(problem));
 
+  if (!args.profile_solver.empty()) {
+    for (SolverRow& row : rows) {
+      if (row.solver->Name() != args.profile_solver) continue;
+      for (int k = 0; k < args.num_profile_fits; ++k) row.result = row.solver->Fit();
+      std::printf("%s %s: rss %.15g, %d iterations\n", label.c_str(), row.solver->Name(),
+                  row.result.rss, row.result.iterations);
+    }
+    return;
+  }
   for (SolverRow& row : rows) row.result = row.solver->Fit();
   const double reference_rss = rows[0].result.rss;
   for (SolverRow& row : rows) {
@@ -274,8 +288,9 @@ void RunProblem(const BenchProblem& problem, const std::string& label, bool use_
   std::printf("\n## %s: %s%s, %zu points, load %.1f\n", label.c_str(), problem.description.c_str(),
               use_expression ? " (foothold: expression model)" : "", problem.x.size(),
               LoadAverage());
-  std::printf("| solver | us/fit | iterations | evaluations | jacobians | rss | foothold/solver "
-              "| status |\n|---|---|---|---|---|---|---|---|\n");
+  std::printf(
+      "| solver | us/fit | iterations | evaluations | jacobians | rss | foothold/solver "
+      "| status |\n|---|---|---|---|---|---|---|---|\n");
   double fastest = 0;
   std::string fastest_name;
   for (size_t k = 0; k < rows.size(); ++k) {
@@ -284,13 +299,12 @@ void RunProblem(const BenchProblem& problem, const std::string& label, bool use_
     char ratio[32] = "-";
     if (k > 0 && row.same_minimum) std::snprintf(ratio, sizeof ratio, "%.3f", Median(row.ratios));
     std::printf("| %s | %s | %d | %d | %d | %.12g | %s | %s |\n", row.solver->Name(),
-                row.same_minimum ? std::to_string(static_cast<int>(us + 0.5)).c_str()
-                                 : "not timed",
+                row.same_minimum ? std::to_string(static_cast<int>(us + 0.5)).c_str() : "not timed",
                 row.result.iterations, row.result.evaluations, row.result.jacobian_evaluations,
                 row.result.rss, ratio, row.result.status.c_str());
     if (!row.same_minimum) {
-      std::printf("  %s did not reach foothold's minimum: rss %.15g vs %.15g\n",
-                  row.solver->Name(), row.result.rss, reference_rss);
+      std::printf("  %s did not reach foothold's minimum: rss %.15g vs %.15g\n", row.solver->Name(),
+                  row.result.rss, reference_rss);
     }
     if (k > 0 && row.same_minimum) {
       const std::string name = row.solver->Name();
@@ -306,14 +320,15 @@ void RunProblem(const BenchProblem& problem, const std::string& label, bool use_
     }
   }
   const double foothold_us = 1e6 * Median(foothold.seconds);
-  std::printf("foothold %.1f us per fit = %.4f us per point; fastest reference %s\n",
-              foothold_us, foothold_us / problem.x.size(), fastest_name.c_str());
+  std::printf("foothold %.1f us per fit = %.4f us per point; fastest reference %s\n", foothold_us,
+              foothold_us / problem.x.size(), fastest_name.c_str());
   if (!use_expression) {
     const double bound_us = 1e6 * LowerBoundSeconds(problem, foothold.result, costs);
-    std::printf("arithmetic lower bound %.1f us (foothold's %d evaluations + %d Jacobians); "
-                "foothold / bound = %.2f\n",
-                bound_us, foothold.result.evaluations, foothold.result.jacobian_evaluations,
-                foothold_us / bound_us);
+    std::printf(
+        "arithmetic lower bound %.1f us (foothold's %d evaluations + %d Jacobians); "
+        "foothold / bound = %.2f\n",
+        bound_us, foothold.result.evaluations, foothold.result.jacobian_evaluations,
+        foothold_us / bound_us);
   }
 }
 
@@ -334,9 +349,11 @@ int main(int argc, char** argv) {
     }
     return 0;
   }
-  const ArithmeticCosts costs = MeasureArithmetic();
-  std::printf("measured: std::exp %.2f ns, multiply-add %.3f ns (throughput, thread CPU time)\n",
-              1e9 * costs.exp_seconds, 1e9 * costs.fma_seconds);
+  const ArithmeticCosts costs =
+      args.profile_solver.empty() ? MeasureArithmetic() : ArithmeticCosts{1e-9, 1e-10};
+  if (args.profile_solver.empty())
+    std::printf("measured: std::exp %.2f ns, multiply-add %.3f ns (throughput, thread CPU time)\n",
+                1e9 * costs.exp_seconds, 1e9 * costs.fma_seconds);
   if (args.lower_bound_only) return 0;
 
   std::vector<std::string> ratio_lines;

@@ -92,12 +92,12 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
     return summary;
   };
 
-  if (!state.EvaluateResidual(state.x, &state.f)) {
+  // The start is evaluated with its Jacobian: the first iteration needs both.
+  if (!state.EvaluateStart()) {
     summary.initial_cost = std::numeric_limits<double>::quiet_NaN();
     state.fnorm = std::numeric_limits<double>::quiet_NaN();
     return finish(Termination::kNonFiniteModel, "the model is not finite at the start point");
   }
-  state.fnorm = state.f.norm();
   summary.initial_cost = state.fnorm * state.fnorm;
   if (state.free.empty()) {
     return finish(Termination::kNoFreeParameters, "every parameter is fixed");
@@ -118,11 +118,12 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
       return finish(Termination::kCancelled, "cancelled by the caller");
     }
     if (SecondsSince(started) > options.deadline_seconds) {
-      return finish(Termination::kDeadline,
-                    Format("elapsed seconds", SecondsSince(started), ">", options.deadline_seconds));
+      return finish(Termination::kDeadline, Format("elapsed seconds", SecondsSince(started), ">",
+                                                   options.deadline_seconds));
     }
     if (!state.EvaluateJacobian()) {
-      return finish(Termination::kNonFiniteModel, "the Jacobian is not finite at the current point");
+      return finish(Termination::kNonFiniteModel,
+                    "the Jacobian is not finite at the current point");
     }
     ++summary.num_iterations;
 
@@ -154,7 +155,8 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
       // Trust-region update, Moré (1978) section 4 (MINPACK's rules).
       if (ratio <= 0.25) {
         double factor = 0.5;
-        if (trial.actual < 0) factor = 0.5 * trial.directional / (trial.directional + 0.5 * trial.actual);
+        if (trial.actual < 0)
+          factor = 0.5 * trial.directional / (trial.directional + 0.5 * trial.actual);
         if (0.1 * trial.fnorm >= state.fnorm || factor < 0.1) factor = 0.1;
         radius = factor * std::min(radius, trial.scaled_step_norm / 0.1);
         lambda /= factor;
@@ -171,14 +173,14 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
 
       if (std::abs(trial.actual) <= options.cost_tolerance &&
           trial.predicted <= options.cost_tolerance && 0.5 * ratio <= 1) {
-        return finish(Termination::kCostConverged,
-                      Format("relative cost change", std::abs(trial.actual), "<=",
-                             options.cost_tolerance));
+        return finish(
+            Termination::kCostConverged,
+            Format("relative cost change", std::abs(trial.actual), "<=", options.cost_tolerance));
       }
       if (radius <= options.step_tolerance * xnorm) {
         return finish(Termination::kStepConverged,
-                      Format("relative step", radius / std::max(xnorm, kEpsilon), "<=",
-                             options.step_tolerance));
+                      Format("relative step", radius / std::max(xnorm, kEpsilon),
+                             "<=", options.step_tolerance));
       }
       if (state.num_evaluations >= options.max_evaluations) {
         return finish(Termination::kEvaluationLimit,
@@ -186,9 +188,9 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
       }
       // Tolerances below what double precision resolves (MINPACK info 6-8).
       if (std::abs(trial.actual) <= kEpsilon && trial.predicted <= kEpsilon && 0.5 * ratio <= 1) {
-        return finish(Termination::kCostConverged,
-                      Format("relative cost change", std::abs(trial.actual),
-                             "<= machine epsilon", kEpsilon));
+        return finish(
+            Termination::kCostConverged,
+            Format("relative cost change", std::abs(trial.actual), "<= machine epsilon", kEpsilon));
       }
       if (radius <= kEpsilon * xnorm) {
         return finish(Termination::kStepConverged,
@@ -196,7 +198,8 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
                              "<= machine epsilon", kEpsilon));
       }
       if (accepted) break;
-      if (options.callback && !options.callback(summary.num_iterations, state.fnorm * state.fnorm)) {
+      if (options.callback &&
+          !options.callback(summary.num_iterations, state.fnorm * state.fnorm)) {
         return finish(Termination::kCancelled, "cancelled by the caller");
       }
       if (SecondsSince(started) > options.deadline_seconds) {

@@ -3,78 +3,141 @@
 #include <algorithm>
 #include <cmath>
 #include <limits>
+#include <utility>
 
 namespace foothold {
 namespace internal {
-
 LmState::LmState(const Problem& problem, const Eigen::VectorXd& start)
     : x(start), problem_(problem) {
   const int n = problem.data.NumPoints();
   const int p = problem.NumParameters();
   f.resize(n);
-  weights_ = problem.data.HasSigma() ? problem.data.sigma.cwiseInverse().eval()
-                                     : Eigen::VectorXd::Ones(n).eval();
+  has_weights_ = problem.data.HasSigma();
+  if (has_weights_) weights_ = problem.data.sigma.cwiseInverse();
   values_.resize(n);
   jacobian_.resize(n, p);
+  trial_jacobian_.resize(n, p);
   gradient_.setZero(p);
   column_norms_.setZero(p);
   diag_.setOnes(p);
   for (int j = 0; j < p; ++j) {
     if (!problem.IsFixed(j)) free.push_back(j);
   }
-  working_.reserve(free.size());
+  const int k = static_cast<int>(free.size());
+  working_.reserve(k);
+  working_pos_.reserve(k);
+  system_.Resize(k);
+  working_diag_.resize(k);
+  solution_.resize(k);
+  step_.resize(k);
+  factor_step_.resize(k);
   x_trial_ = x;
   f_trial_.resize(n);
-  jacobian_step_.resize(n);
+  scratch_n_.resize(n);
 }
 
-bool LmState::EvaluateResidual(const Eigen::VectorXd& params, Eigen::VectorXd* out) {
+bool LmState::EvaluateModel(const Eigen::VectorXd& params, Eigen::VectorXd* out, double* norm,
+                            Eigen::MatrixXd* jacobian) {
   ++num_evaluations;
-  values_.setConstant(std::numeric_limits<double>::quiet_NaN());
-  problem_.model->Evaluate(problem_.data.predictors, params.data(), values_.data());
-  *out = (values_ - problem_.data.response).cwiseProduct(weights_);
-  return out->allFinite();
+  constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
+  values_.setConstant(kNaN);
+  if (jacobian) {
+    ++num_jacobian_evaluations;
+    jacobian->setConstant(kNaN);
+    problem_.model->EvaluateWithJacobian(problem_.data.predictors, params.data(), values_.data(),
+                                         jacobian->data());
+  } else {
+    problem_.model->Evaluate(problem_.data.predictors, params.data(), values_.data());
+  }
+  if (has_weights_) {
+    out->noalias() = (values_ - problem_.data.response).cwiseProduct(weights_);
+  } else {
+    out->noalias() = values_ - problem_.data.response;
+  }
+  // A NaN or inf anywhere makes the (vectorised) sum of squares non-finite.
+  const double sum = out->squaredNorm();
+  if (std::isfinite(sum)) {
+    *norm = std::sqrt(sum);
+    return true;
+  }
+  // Finite residuals whose squares overflow still count as finite.
+  if (!out->allFinite()) return false;
+  *norm = out->stableNorm();
+  return true;
+}
+
+bool LmState::EvaluateStart() {
+  jacobian_ready_ = false;
+  if (!EvaluateModel(x, &f, &fnorm, &trial_jacobian_)) return false;
+  jacobian_.swap(trial_jacobian_);
+  jacobian_ready_ = true;
+  return true;
+}
+
+bool LmState::EvaluateResidual(const Eigen::VectorXd& params, Eigen::VectorXd* out, double* norm) {
+  return EvaluateModel(params, out, norm, nullptr);
 }
 
 bool LmState::EvaluateJacobian() {
-  ++num_jacobian_evaluations;
-  jacobian_.setConstant(std::numeric_limits<double>::quiet_NaN());
-  problem_.model->EvaluateWithJacobian(problem_.data.predictors, x.data(), values_.data(),
-                                       jacobian_.data());
-  for (int j : free) {
-    jacobian_.col(j).array() *= weights_.array();
-    if (!jacobian_.col(j).allFinite()) return false;
-    gradient_[j] = jacobian_.col(j).dot(f);
-    column_norms_[j] = jacobian_.col(j).norm();
+  if (!jacobian_ready_) {
+    ++num_jacobian_evaluations;
+    jacobian_.setConstant(std::numeric_limits<double>::quiet_NaN());
+    problem_.model->EvaluateWithJacobian(problem_.data.predictors, x.data(), values_.data(),
+                                         jacobian_.data());
+  }
+  jacobian_ready_ = false;
+  speculate_ = true;
+  // Pack the free columns to the front (in place, left to right) and weight them.
+  const int k = static_cast<int>(free.size());
+  for (int c = 0; c < k; ++c) {
+    if (free[c] != c) jacobian_.col(c) = jacobian_.col(free[c]);
+    if (has_weights_) jacobian_.col(c).array() *= weights_.array();
+  }
+  const auto packed = jacobian_.leftCols(k);
+  for (int c = 0; c < k; ++c) {
+    if (!packed.col(c).allFinite()) return false;
+    gradient_[free[c]] = packed.col(c).dot(f);
+    column_norms_[free[c]] = packed.col(c).norm();
   }
   return true;
 }
 
 bool LmState::SelectWorkingSet() {
   working_.clear();
-  for (int j : free) {
+  working_pos_.clear();
+  for (size_t c = 0; c < free.size(); ++c) {
+    const int j = free[c];
     // Moving along -gradient would leave the box: hold the parameter at its bound.
     const bool held_low = x[j] <= problem_.Lower(j) && gradient_[j] > 0;
     const bool held_high = x[j] >= problem_.Upper(j) && gradient_[j] < 0;
-    if (!held_low && !held_high) working_.push_back(j);
+    if (!held_low && !held_high) {
+      working_.push_back(j);
+      working_pos_.push_back(static_cast<int>(c));
+    }
   }
   return !working_.empty();
 }
 
-void LmState::Factorize() {
+void LmState::FactorizeQr() {
   const int n = static_cast<int>(f.size());
   const int m = static_cast<int>(working_.size());
   working_jacobian_.resize(n, m);
-  for (int k = 0; k < m; ++k) working_jacobian_.col(k) = jacobian_.col(working_[k]);
+  for (int k = 0; k < m; ++k) working_jacobian_.col(k) = jacobian_.col(working_pos_[k]);
   qr_.compute(working_jacobian_);
-  system_.Resize(m);
   system_.r = qr_.matrixQR().topLeftCorner(m, m).triangularView<Eigen::Upper>();
   system_.pivot = qr_.colsPermutation().indices();
-  f_trial_ = qr_.householderQ().transpose() * f;
-  system_.qtf = f_trial_.head(m);
+  scratch_n_.noalias() = qr_.householderQ().transpose() * f;
+  system_.qtf = scratch_n_.head(m);
+}
+
+void LmState::Factorize() {
+  const int m = static_cast<int>(working_.size());
+  system_.Resize(m);
   working_diag_.resize(m);
   solution_.resize(m);
   step_.resize(m);
+  factor_step_.resize(m);
+  FactorizeQr();
 }
 
 void LmState::InitialiseScaling() {
@@ -116,15 +179,27 @@ bool LmState::ProjectStep(const Eigen::VectorXd& step, Eigen::VectorXd* applied)
   return clipped;
 }
 
-void LmState::PredictWithJacobian(const Eigen::VectorXd& step, TrialStep* trial) {
-  jacobian_step_.setZero();
-  for (size_t k = 0; k < working_.size(); ++k) {
-    jacobian_step_.noalias() += step[k] * jacobian_.col(working_[k]);
+void LmState::MultiplyByFactor(const Eigen::VectorXd& step, Eigen::VectorXd* out) const {
+  const int m = static_cast<int>(working_.size());
+  for (int i = 0; i < m; ++i) {
+    double sum = 0;
+    for (int j = i; j < m; ++j) sum += system_.r(i, j) * step[system_.pivot[j]];
+    (*out)[i] = sum;
   }
-  const double f_dot_js = f.dot(jacobian_step_);
+}
+
+void LmState::PredictFromFactor(const Eigen::VectorXd& step, TrialStep* trial) {
+  // f^T J s = (Q^T f)^T R P^T s, because f's part outside range(Q) is orthogonal to J s.
+  MultiplyByFactor(step, &factor_step_);
+  const double f_dot_js = system_.qtf.dot(factor_step_);
   const double fnorm2 = fnorm * fnorm;
-  trial->predicted = -(2 * f_dot_js + jacobian_step_.squaredNorm()) / fnorm2;
+  trial->predicted = -(2 * f_dot_js + factor_step_.squaredNorm()) / fnorm2;
   trial->directional = f_dot_js / fnorm2;
+}
+
+void LmState::ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out) {
+  scratch_n_.noalias() = qr_.householderQ().transpose() * v;
+  *out = scratch_n_.head(static_cast<int>(working_.size()));
 }
 
 void LmState::AddGeodesicAcceleration(double lambda, const LevenbergMarquardtOptions& options,
@@ -136,14 +211,16 @@ void LmState::AddGeodesicAcceleration(double lambda, const LevenbergMarquardtOpt
   Eigen::VectorXd probe = x;
   for (int k = 0; k < m; ++k) probe[working_[k]] += kProbe * (*step)[k];
   Eigen::VectorXd f_probe(f.size());
-  if (!EvaluateResidual(probe, &f_probe)) return;
-  jacobian_step_.setZero();
-  for (int k = 0; k < m; ++k) jacobian_step_.noalias() += (*step)[k] * jacobian_.col(working_[k]);
-  Eigen::VectorXd second = (2.0 / kProbe) * ((f_probe - f) / kProbe - jacobian_step_);
-  Eigen::VectorXd qt_second = qr_.householderQ().transpose() * second;
+  double probe_norm = 0;
+  if (!EvaluateResidual(probe, &f_probe, &probe_norm)) return;
+  // Q^T second = (2/h) (Q^T (f_probe - f) / h - R P^T v), as J v = Q R P^T v.
+  Eigen::VectorXd qt_difference(m);
+  ApplyQTranspose(f_probe - f, &qt_difference);
+  MultiplyByFactor(*step, &factor_step_);
+  Eigen::VectorXd qt_second = (2.0 / kProbe) * (qt_difference / kProbe - factor_step_);
   Eigen::VectorXd scaled = std::sqrt(lambda) * working_diag_;
   Eigen::VectorXd acceleration(m);
-  DampedQrSolve(&system_, scaled, qt_second.head(m), &acceleration);
+  DampedQrSolve(&system_, scaled, qt_second, &acceleration);
   acceleration = -acceleration;
   const double velocity_norm = working_diag_.cwiseProduct(*step).norm();
   const double acceleration_norm = working_diag_.cwiseProduct(acceleration).norm();
@@ -166,25 +243,27 @@ TrialStep LmState::ComputeTrialStep(double radius, double* lambda,
   const bool clipped = ProjectStep(velocity, &step_);
   trial.scaled_step_norm = working_diag_.cwiseProduct(step_).norm();
   if (clipped || accelerated) {
-    PredictWithJacobian(step_, &trial);
+    PredictFromFactor(step_, &trial);
   } else {
     // Predicted reduction from R: ||R P^T s||^2 and the damping term (MINPACK lmder).
+    MultiplyByFactor(step_, &factor_step_);
     double rs2 = 0;
-    for (int i = 0; i < m; ++i) {
-      double sum = 0;
-      for (int j = i; j < m; ++j) sum += system_.r(i, j) * step_[system_.pivot[j]];
-      rs2 += sum * sum;
-    }
+    for (int i = 0; i < m; ++i) rs2 += factor_step_[i] * factor_step_[i];
     const double temp1 = std::sqrt(rs2) / fnorm;
     const double temp2 = std::sqrt(*lambda) * trial.scaled_step_norm / fnorm;
     trial.predicted = temp1 * temp1 + temp2 * temp2 / 0.5;
     trial.directional = -(temp1 * temp1 + temp2 * temp2);
   }
 
-  trial.fnorm = EvaluateResidual(x_trial_, &f_trial_) ? f_trial_.norm()
-                                                       : std::numeric_limits<double>::infinity();
+  trial_has_jacobian_ = speculate_;
+  double norm = 0;
+  const bool finite =
+      EvaluateModel(x_trial_, &f_trial_, &norm, speculate_ ? &trial_jacobian_ : nullptr);
+  trial.fnorm = finite ? norm : std::numeric_limits<double>::infinity();
   trial.actual = 0.1 * trial.fnorm < fnorm ? 1 - (trial.fnorm / fnorm) * (trial.fnorm / fnorm) : -1;
   trial_fnorm_ = trial.fnorm;
+  // A rejected trial's Jacobian was wasted: values only until the next Jacobian.
+  speculate_ = false;
   return trial;
 }
 
@@ -193,6 +272,10 @@ void LmState::Accept() {
   f.swap(f_trial_);
   fnorm = trial_fnorm_;
   x_trial_ = x;
+  if (trial_has_jacobian_) {
+    jacobian_.swap(trial_jacobian_);
+    jacobian_ready_ = true;
+  }
 }
 
 }  // namespace internal

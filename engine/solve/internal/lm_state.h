@@ -1,6 +1,18 @@
 #pragma once
 // The working state of one Levenberg–Marquardt run: buffers sized once, so the iteration
-// loop itself does not allocate (apart from Eigen's QR when the working set changes size).
+// loop itself does not allocate.
+//
+// Per Jacobian the state forms the Gram matrix J^T J and the gradient J^T f of the free
+// columns in one pass over J (no copy of J) and factors the working block by a pivoted
+// Cholesky when its scaled condition allows (R^T R = P^T J^T J P is the R of a pivoted QR of
+// J up to signs). An ill-conditioned, rank-deficient or overflowing block falls back to the
+// pivoted Householder QR of the working columns, and so does every iteration once the
+// accepted reductions have become small (the last steps decide the answer's digits). Either way the
+// subproblem then sees only R, the pivot and Q^T f, so a rejected trial step costs O(m^2).
+//
+// Trial points are evaluated with the Jacobian while steps are being accepted: an accepted
+// trial then brings its Jacobian along and the next iteration does not call the model
+// again. After a rejection trials are values only until the next Jacobian.
 
 #include <Eigen/Core>
 #include <Eigen/QR>
@@ -25,13 +37,16 @@ class LmState {
  public:
   LmState(const Problem& problem, const Eigen::VectorXd& start);
 
-  // Weighted residual (f(x) - y) / sigma into `out`; false when not finite.
-  bool EvaluateResidual(const Eigen::VectorXd& params, Eigen::VectorXd* out);
-  // Weighted Jacobian at x; false when not finite.
+  // Residual and Jacobian at the start point x: f, fnorm; false when f is not finite.
+  bool EvaluateStart();
+  // Weighted residual (f(x) - y) / sigma into `out` and its norm; false when not finite.
+  bool EvaluateResidual(const Eigen::VectorXd& params, Eigen::VectorXd* out, double* norm);
+  // Weighted Jacobian at x (from the accepted trial when it brought one), its Gram matrix,
+  // column norms and gradient; false when not finite.
   bool EvaluateJacobian();
   // Chooses the working columns; false when none is left.
   bool SelectWorkingSet();
-  // Pivoted QR of the working columns and Q^T f.
+  // R, pivot and Q^T f of the working columns.
   void Factorize();
   void InitialiseScaling();
   void UpdateScaling();
@@ -39,41 +54,59 @@ class LmState {
   // max_j |J_j^T f| / (||J_j|| ||f||) over the working columns (MINPACK's gnorm).
   double ScaledGradientNorm() const;
   // Solves the subproblem for `radius`, projects onto the bounds and evaluates the trial.
-  TrialStep ComputeTrialStep(double radius, double* lambda, const LevenbergMarquardtOptions& options);
+  TrialStep ComputeTrialStep(double radius, double* lambda,
+                             const LevenbergMarquardtOptions& options);
   void Accept();
 
-  Eigen::VectorXd x;      // p, current point
-  Eigen::VectorXd f;      // n, weighted residual at x
+  Eigen::VectorXd x;  // p, current point
+  Eigen::VectorXd f;  // n, weighted residual at x
   double fnorm = 0;
   std::vector<int> free;  // indices of the free parameters
   int num_evaluations = 0;
   int num_jacobian_evaluations = 0;
 
  private:
-  // Predicted and directional reductions for a step `s` (working order) computed with J.
-  void PredictWithJacobian(const Eigen::VectorXd& step, TrialStep* trial);
+  // Model values into values_ (and the Jacobian into `jacobian` when not null), NaN-filled
+  // first; the weighted residual into `out`; false when the residual is not finite.
+  bool EvaluateModel(const Eigen::VectorXd& params, Eigen::VectorXd* out, double* norm,
+                     Eigen::MatrixXd* jacobian);
+  // Predicted and directional reductions for a step `s` (working order) from R and Q^T f:
+  // with J P = Q R, J s = Q R P^T s.
+  void PredictFromFactor(const Eigen::VectorXd& step, TrialStep* trial);
+  // R P^T s into `out` (size m).
+  void MultiplyByFactor(const Eigen::VectorXd& step, Eigen::VectorXd* out) const;
+  // The first m entries of Q^T v.
+  void ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out);
   // Moves the working-order step into x_trial_ within the bounds; true when it was clipped.
   bool ProjectStep(const Eigen::VectorXd& step, Eigen::VectorXd* applied);
   void AddGeodesicAcceleration(double lambda, const LevenbergMarquardtOptions& options,
                                Eigen::VectorXd* step);
+  void FactorizeQr();
 
   const Problem& problem_;
-  Eigen::VectorXd weights_;   // n, 1/sigma (or 1)
-  Eigen::VectorXd values_;    // n, model values scratch
-  Eigen::MatrixXd jacobian_;  // n x p, weighted
-  Eigen::VectorXd gradient_;  // p, J^T f for free columns
-  Eigen::VectorXd column_norms_;  // p
-  Eigen::VectorXd diag_;          // p, scaling D (free entries used)
-  std::vector<int> working_;      // working columns (subset of free)
-  Eigen::MatrixXd working_jacobian_;
+  bool has_weights_ = false;
+  Eigen::VectorXd weights_;         // n, 1/sigma (or empty)
+  Eigen::VectorXd values_;          // n, model values scratch
+  Eigen::MatrixXd jacobian_;        // n x p, weighted; free columns packed to the front
+  Eigen::MatrixXd trial_jacobian_;  // n x p, the model's Jacobian at x_trial_
+  bool jacobian_ready_ = false;     // jacobian_ holds the model's Jacobian at x (unweighted)
+  bool trial_has_jacobian_ = false;
+  bool speculate_ = true;             // evaluate the next trial with its Jacobian
+  Eigen::VectorXd gradient_;          // p, J^T f for free columns
+  Eigen::VectorXd column_norms_;      // p
+  Eigen::VectorXd diag_;              // p, scaling D (free entries used)
+  std::vector<int> working_;          // working columns (subset of free)
+  std::vector<int> working_pos_;      // their packed positions in jacobian_
+  Eigen::MatrixXd working_jacobian_;  // the working columns, factored
   Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr_;
   DampedSystem system_;
   Eigen::VectorXd working_diag_;
-  Eigen::VectorXd solution_;   // m
-  Eigen::VectorXd step_;       // m, applied step
-  Eigen::VectorXd x_trial_;    // p
-  Eigen::VectorXd f_trial_;    // n
-  Eigen::VectorXd jacobian_step_;  // n
+  Eigen::VectorXd solution_;     // m
+  Eigen::VectorXd step_;         // m, applied step
+  Eigen::VectorXd factor_step_;  // m
+  Eigen::VectorXd x_trial_;      // p
+  Eigen::VectorXd f_trial_;      // n
+  Eigen::VectorXd scratch_n_;    // n
   double trial_fnorm_ = 0;
 };
 
