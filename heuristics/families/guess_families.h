@@ -7,6 +7,7 @@
 
 #include "heuristics/families/catalogue.h"
 #include "heuristics/families/guess_common.h"
+#include "heuristics/families/guess_profile.h"
 
 namespace foothold {
 namespace guess {
