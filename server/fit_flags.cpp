@@ -372,9 +372,12 @@ DATA                     CSV with a header row naming the columns, or a .json fi
 --loss NAME              robust loss; only squared for now
 --loss-scale S           scale of the robust loss (default 1)
 --method NAME            local method; only lm for now
---starts N               number of starts; only 1 for now
---seed N                 seed recorded in the result (default 0)
---threads N              worker threads (default 1)
+--starts N               local fits to run: 1 = one fit from the best start; default
+                         automatic (max(16, 8 p) up to 256, stopped early by a
+                         Bayesian rule once no unseen optimum is expected)
+--seed N                 seed of the quasi-random and jitter starts (default 7); the
+                         same request and seed give the same result
+--threads N              worker threads (default: all cores); never changes the result
 --deadline SECONDS       wall-clock limit of the fit
 --max-iterations N       solver iteration limit (default 1000)
 --max-evaluations N      solver evaluation limit (default 4000)

@@ -42,6 +42,15 @@ struct FitOutcome {
   std::vector<std::string> warnings;  // notes for people (from the guesser)
   std::uint64_t seed = 0;
   double elapsed_ms = 0;
+  // How the search went (engine/multistart): why it stopped, with its numbers, and the
+  // multistart verdict inputs. A single local fit reports stop "budget" with 1 of 1 starts.
+  std::string search_stop = "budget";
+  std::string search_message;
+  int starts_planned = 1;
+  int starts_converged = 0;
+  bool ambiguous_basins = false;         // another basin fits almost as well
+  bool best_basin_single_start = false;  // only one start reached the best basin
+  double best_gap_chi2 = 0;              // gap of the second basin, in chi-square units
 
   bool IsConverged() const { return best.IsConverged(); }
   bool IsWeighted() const { return !sigma_column.empty(); }

@@ -140,13 +140,11 @@ bool ValidateMethodChoices(const FitRequest& request, std::string* error) {
 
 bool ValidateLimits(const FitRequest& request, std::string* error) {
   std::ostringstream message;
-  if (request.starts < 1) {
-    message << "starts = " << request.starts << ": must be >= 1";
-  } else if (request.starts > 1) {
-    message << "starts = " << request.starts
-            << ": only 1 (a single fit from the given start) is supported so far";
-  } else if (request.threads < 1) {
-    message << "threads = " << request.threads << ": must be >= 1";
+  if (request.starts < 0 || request.starts > kMaxStarts) {
+    message << "starts = " << request.starts << ": must be between 1 and " << kMaxStarts
+            << " (or absent for the automatic budget)";
+  } else if (request.threads < 0 || request.threads > kMaxThreads) {
+    message << "threads = " << request.threads << ": must be between 1 and " << kMaxThreads;
   } else if (!(request.deadline_seconds > 0)) {
     message << "deadline_seconds = " << request.deadline_seconds << ": must be > 0";
   } else if (request.max_iterations < 0) {

@@ -39,6 +39,10 @@ struct NamedBounds {
 constexpr const char* kKnownLosses[] = {"squared", "soft_l1", "huber", "cauchy", "tukey", "l1"};
 constexpr const char* kKnownMethods[] = {"lm", "gauss_newton", "bfgs"};
 
+// Upper limits a request may ask for (the daemon may set lower ones).
+constexpr int kMaxStarts = 100000;
+constexpr int kMaxThreads = 256;
+
 struct FitRequest {
   // Free text for listing and filtering. Optional.
   std::string label;
@@ -58,12 +62,14 @@ struct FitRequest {
   double loss_scale = 1.0;
   // Local method; only "lm" is implemented so far.
   std::string method = "lm";
-  // Number of starts; only 1 (the user's own start) is implemented so far.
-  int starts = 1;
-  // Seed of the random streams; recorded in the result.
-  std::uint64_t seed = 0;
-  // Worker threads. Must be >= 1.
-  int threads = 1;
+  // Number of local fits. 0 (the default) is the automatic budget, max(16, 8 p) capped at
+  // 256 for p free parameters, ended earlier by the stopping rule; 1 is a single local fit
+  // from the best candidate (the user's start, else the best guess).
+  int starts = 0;
+  // Seed of the random streams; the same request and seed give the same result.
+  std::uint64_t seed = 7;
+  // Worker threads; 0 (the default) means the hardware's. The result does not depend on it.
+  int threads = 0;
   // Wall-clock limit of the whole fit in seconds; infinity means none.
   double deadline_seconds = std::numeric_limits<double>::infinity();
   // Local solver limits (foothold extensions of §3b). Defaults as the solver's.

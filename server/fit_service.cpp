@@ -9,6 +9,8 @@
 #include <sstream>
 
 #include "engine/model/expression_model.h"
+#include "engine/multistart/multistart.h"
+#include "engine/solve/local_fit.h"
 #include "heuristics/families/catalogue.h"
 #include "heuristics/guess.h"
 #include "server/fit_start.h"
@@ -241,6 +243,7 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
   prepared.start_origin = std::move(choice.origin);
   prepared.guessed = std::move(choice.guessed);
   prepared.warnings = std::move(choice.warnings);
+  prepared.candidates = std::move(choice.candidates);
   std::string problem_error;
   if (!problem.Validate(&problem_error)) {
     *error = "problem: " + problem_error;
@@ -259,8 +262,9 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
   return true;
 }
 
-FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared) {
-  const auto started = std::chrono::steady_clock::now();
+namespace {
+
+FitOutcome DescribeRequest(const FitRequest& request, const PreparedFit& prepared) {
   const Problem& problem = prepared.problem;
   FitOutcome outcome;
   outcome.label = request.label;
@@ -274,18 +278,38 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
   outcome.sigma_column = prepared.sigma_column;
   outcome.sigma_mode = problem.sigma_mode;
   outcome.seed = request.seed;
+  return outcome;
+}
 
-  outcome.best = MinimizeLevenbergMarquardt(problem, prepared.start, prepared.solver_options);
-  const Eigen::VectorXd& end = outcome.best.parameters.size() == prepared.start.size()
-                                   ? outcome.best.parameters
-                                   : prepared.start;
-  outcome.statistics = ComputeFitStatistics(problem, end);
+// The local-fit options every start uses: the request's limits, the hooks' cancellation.
+LocalFitOptions LocalOptions(const PreparedFit& prepared, const FitHooks& hooks) {
+  LocalFitOptions options;
+  options.lm = prepared.solver_options;
+  if (hooks.should_stop) {
+    const IterationCallback previous = options.lm.callback;
+    const std::function<bool()> should_stop = hooks.should_stop;
+    options.lm.callback = [previous, should_stop](int iteration, double cost) {
+      if (should_stop()) return false;
+      return previous ? previous(iteration, cost) : true;
+    };
+  }
+  return options;
+}
 
-  const LocalFitSummary& best = outcome.best;
+// --starts 1: one local fit from the best seeded candidate, described as a one-start run.
+void RunSingleStart(const PreparedFit& prepared, const FitHooks& hooks, FitOutcome* outcome) {
+  const Problem& problem = prepared.problem;
+  if (hooks.on_progress) hooks.on_progress(0, 1, std::numeric_limits<double>::quiet_NaN());
+  outcome->best = RunLocalFit(problem, prepared.start, LocalOptions(prepared, hooks));
+  const LocalFitSummary& best = outcome->best;
+  const Eigen::VectorXd& end =
+      best.parameters.size() == prepared.start.size() ? best.parameters : prepared.start;
+  outcome->statistics = ComputeFitStatistics(problem, end);
+
   StartRecord record;
   record.index = 0;
   record.origin = prepared.start_origin;
-  record.start = best.start.size() == end.size() ? best.start : prepared.start;
+  record.start = prepared.start;
   record.end = end;
   record.initial_rss = best.initial_cost;
   record.rss = best.final_cost;
@@ -299,17 +323,97 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
     record.basin = 0;
     Basin basin;
     basin.id = 0;
-    basin.rss = outcome.statistics.rss;
-    basin.delta_rss = 0;
+    basin.rss = outcome->statistics.rss;
     basin.num_starts = 1;
     basin.share = 1;
     basin.representative_start = 0;
     basin.parameters = end;
-    basin.standard_errors = outcome.statistics.standard_errors;
-    basin.has_standard_errors = true;
-    outcome.basins.push_back(std::move(basin));
+    basin.standard_errors = outcome->statistics.standard_errors;
+    basin.has_standard_errors = outcome->statistics.has_standard_errors;
+    outcome->basins.push_back(std::move(basin));
+    outcome->starts_converged = 1;
+    outcome->best_basin_single_start = false;  // one start was all that was asked for
   }
-  outcome.starts.push_back(std::move(record));
+  outcome->starts.push_back(std::move(record));
+  outcome->search_message = "a single local fit was requested (starts = 1)";
+  if (hooks.on_progress) hooks.on_progress(1, 1, best.final_cost);
+}
+
+// The local-fit summary of the multistart's best start, rebuilt from its record.
+LocalFitSummary SummaryOf(const StartRecord& record) {
+  LocalFitSummary summary;
+  summary.termination = record.termination;
+  summary.message = record.message;
+  summary.start = record.start;
+  summary.parameters = record.end;
+  summary.initial_cost = record.initial_rss;
+  summary.final_cost = record.rss;
+  summary.num_iterations = record.num_iterations;
+  summary.num_evaluations = record.num_evaluations;
+  summary.total_seconds = record.seconds;
+  return summary;
+}
+
+void RunManyStarts(const FitRequest& request, const PreparedFit& prepared, const FitHooks& hooks,
+                   FitOutcome* outcome) {
+  const Problem& problem = prepared.problem;
+  MultistartOptions options;
+  options.max_starts = request.starts;
+  options.seed = request.seed;
+  if (request.threads > 0) options.num_threads = request.threads;
+  options.deadline_seconds = request.deadline_seconds;
+  const LocalFitOptions local = LocalOptions(prepared, hooks);
+  options.local = local.lm;
+  options.use_variable_projection = local.use_variable_projection;
+  if (hooks.should_stop) options.is_cancelled = hooks.should_stop;
+  if (hooks.on_progress) options.progress = hooks.on_progress;
+
+  const MultistartSummary summary =
+      RunMultistart(problem, prepared.candidates, SearchBox{}, options);
+  outcome->search_stop = ToString(summary.stop);
+  outcome->search_message = summary.message;
+  outcome->starts_planned = summary.num_starts_planned;
+  outcome->starts_converged = summary.num_converged;
+  outcome->ambiguous_basins = summary.ambiguous_basins;
+  outcome->best_basin_single_start = summary.best_basin_single_start;
+  outcome->best_gap_chi2 = summary.best_gap_chi2;
+  outcome->starts = summary.starts;
+  outcome->basins = summary.basins;
+  const StartRecord* best = summary.BestStart();
+  if (best == nullptr && !summary.starts.empty()) best = &summary.starts.front();
+  if (best == nullptr) {
+    // Nothing ran (cancelled before the first start): report the seeded start as it is.
+    outcome->best.termination = Termination::kCancelled;
+    outcome->best.message = summary.message;
+    outcome->best.start = prepared.start;
+    outcome->best.parameters = prepared.start;
+    outcome->statistics = ComputeFitStatistics(problem, prepared.start);
+    outcome->best.initial_cost = outcome->best.final_cost = outcome->statistics.rss;
+    return;
+  }
+  outcome->best = SummaryOf(*best);
+  // Report the best basin in its canonical order (peaks sorted by center, ...).
+  const Eigen::VectorXd& end =
+      !summary.basins.empty() && best->converged ? summary.basins.front().parameters : best->end;
+  outcome->best.parameters = end;
+  outcome->statistics = ComputeFitStatistics(problem, end);
+}
+
+}  // namespace
+
+FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared) {
+  return RunPreparedFit(request, prepared, FitHooks{});
+}
+
+FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared,
+                          const FitHooks& hooks) {
+  const auto started = std::chrono::steady_clock::now();
+  FitOutcome outcome = DescribeRequest(request, prepared);
+  if (request.starts == 1) {
+    RunSingleStart(prepared, hooks, &outcome);
+  } else {
+    RunManyStarts(request, prepared, hooks, &outcome);
+  }
   outcome.verdict = JudgeFit(outcome);
   outcome.elapsed_ms =
       std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - started).count();
@@ -317,29 +421,14 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
 }
 
 bool RunFit(const FitRequest& request, FitOutcome* out, std::string* error) {
-  PreparedFit prepared;
-  if (!PrepareFit(request, &prepared, error)) return false;
-  *out = RunPreparedFit(request, prepared);
-  return true;
+  return RunFit(request, FitHooks{}, out, error);
 }
 
 bool RunFit(const FitRequest& request, const FitHooks& hooks, FitOutcome* out,
             std::string* error) {
   PreparedFit prepared;
   if (!PrepareFit(request, &prepared, error)) return false;
-  if (hooks.should_stop) {
-    IterationCallback previous = prepared.solver_options.callback;
-    std::function<bool()> should_stop = hooks.should_stop;
-    prepared.solver_options.callback = [previous, should_stop](int iteration, double cost) {
-      if (should_stop()) return false;
-      return previous ? previous(iteration, cost) : true;
-    };
-  }
-  *out = RunPreparedFit(request, prepared);
-  if (hooks.on_progress) {
-    const int planned = static_cast<int>(out->starts.size());
-    hooks.on_progress(planned, planned, out->statistics.rss);
-  }
+  *out = RunPreparedFit(request, prepared, hooks);
   return true;
 }
 

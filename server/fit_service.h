@@ -8,12 +8,20 @@
 #include <vector>
 
 #include "engine/model/model.h"
+#include "engine/multistart/multistart_options.h"
 #include "engine/solve/levenberg_marquardt.h"
 #include "engine/solve/problem.h"
 #include "server/fit_outcome.h"
 #include "server/fit_request.h"
 
 namespace foothold {
+
+// Progress and cancellation of a running fit (the daemon's jobs). Both optional; called
+// from the fitting threads.
+struct FitHooks {
+  std::function<void(int starts_finished, int starts_planned, double best_rss)> on_progress;
+  std::function<bool()> should_stop;
+};
 
 // A request turned into engine values, ready to minimise. Move-only: `problem.model`
 // points at `model`.
@@ -27,6 +35,7 @@ struct PreparedFit {
   std::string start_origin;           // "user" or "guess:<candidate>"
   std::vector<std::string> guessed;   // parameters whose start the guesser chose
   std::vector<std::string> warnings;  // notes for people (from the guesser)
+  std::vector<StartCandidate> candidates;  // seeded starts for multistart, best first
 };
 
 // Every bad-input check lives here: false with a message naming the field (and the row
@@ -35,16 +44,12 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
 
 // Minimises and describes the result; never fails: numerical outcomes are data.
 FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared);
+FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared,
+                          const FitHooks& hooks);
 
 // PrepareFit followed by RunPreparedFit.
 bool RunFit(const FitRequest& request, FitOutcome* out, std::string* error);
 
-// Progress and cancellation of a running fit (the daemon's jobs). Both optional; called
-// from the fitting threads.
-struct FitHooks {
-  std::function<void(int starts_finished, int starts_planned, double best_rss)> on_progress;
-  std::function<bool()> should_stop;
-};
 
 // RunFit with hooks: should_stop is checked at every solver iteration (true stops the fit
 // with termination "cancelled"), on_progress is called when a start finishes.

@@ -90,28 +90,31 @@ bool ApplyGivenValues(const FitRequest& request, Problem* problem, Eigen::Vector
   return true;
 }
 
-// Fills the missing entries of `choice->start` from the family guesser's best candidate.
-bool GuessMissing(const FamilyRequest& family, const Problem& problem,
-                  const std::vector<int>& missing, StartChoice* choice, std::string* error) {
-  const std::vector<std::string>& names = problem.model->ParameterNames();
-  GuessResult guess;
-  std::string guess_error;
-  if (!GuessFamily(family, *problem.model, problem.data, problem.lower, problem.upper,
-                   GuessOptions{}, &guess, &guess_error) ||
-      guess.candidates.empty()) {
-    *error = "start." + names[missing.front()] + ": no start value, and the " + family.name +
-             " guesser could not make one (" +
-             (guess_error.empty() ? "no candidate" : guess_error) + "); give it in start";
-    return false;
+// The guesser's candidates for the problem: the family's, or the generic one for an
+// expression. False (with the guesser's reason) when it has none.
+bool GuessCandidates(const FamilyRequest* family, const Problem& problem, GuessResult* guess,
+                     std::string* error) {
+  const bool ok = family ? GuessFamily(*family, *problem.model, problem.data, problem.lower,
+                                       problem.upper, GuessOptions{}, guess, error)
+                         : GuessGeneric(*problem.model, problem.data, problem.lower,
+                                        problem.upper, GuessOptions{}, guess, error);
+  if (ok && guess->candidates.empty()) *error = "no candidate";
+  return ok && !guess->candidates.empty();
+}
+
+// Seeded starts in priority order: the user's own start when it is complete, then every
+// guess candidate with the values the user gave (start and fix) in place.
+void BuildCandidates(const Eigen::VectorXd& given, const GuessResult* guess, bool complete,
+                     StartChoice* choice) {
+  if (complete) choice->candidates.push_back({"user", given});
+  if (!guess) return;
+  for (const GuessCandidate& candidate : guess->candidates) {
+    Eigen::VectorXd values = candidate.parameters;
+    for (Eigen::Index j = 0; j < given.size(); ++j) {
+      if (!std::isnan(given[j])) values[j] = given[j];
+    }
+    choice->candidates.push_back({"guess:" + candidate.name, values});
   }
-  const GuessCandidate& best = guess.candidates.front();
-  for (int j : missing) {
-    choice->start[j] = best.parameters[j];
-    choice->guessed.push_back(names[j]);
-  }
-  choice->origin = "guess:" + best.name;
-  choice->warnings = guess.warnings;
-  return true;
 }
 
 }  // namespace
@@ -136,18 +139,23 @@ bool ChooseStart(const FitRequest& request, const FamilyRequest* family,
   for (int j = 0; j < static_cast<int>(names.size()); ++j) {
     if (std::isnan(choice.start[j])) missing.push_back(j);
   }
-  if (!missing.empty()) {
-    if (!family) {
-      *error = "start." + names[missing.front()] + ": no start value for parameter '" +
-               names[missing.front()] +
-               "'; expressions have no automatic starting guess yet, so give every free "
-               "parameter a start";
-      return false;
-    }
-    // The guesser reads the data before the start is checked: a bad start the user gave
-    // is still reported below, by name.
-    if (!GuessMissing(*family, *problem, missing, &choice, error)) return false;
+  // The guesser reads the data before the start is checked: a bad start the user gave is
+  // still reported below, by name. A complete user start needs no guess, but the guesses
+  // still join the seeded starts when the guesser has them.
+  GuessResult guess;
+  std::string guess_error;
+  const bool has_guess = GuessCandidates(family, *problem, &guess, &guess_error);
+  if (!missing.empty() && !has_guess) {
+    const std::string guesser = family ? "the " + family->name + " guesser" : "the generic guesser";
+    *error = "start." + names[missing.front()] + ": no start value, and " + guesser +
+             " could not make one (" + guess_error + "); give it in start";
+    return false;
   }
+  BuildCandidates(choice.start, has_guess ? &guess : nullptr, missing.empty(), &choice);
+  choice.start = choice.candidates.front().parameters;
+  choice.origin = choice.candidates.front().origin;
+  for (int j : missing) choice.guessed.push_back(names[j]);
+  if (has_guess) choice.warnings = guess.warnings;
   for (int j = 0; j < static_cast<int>(names.size()); ++j) {
     const bool guessed = ParameterIndex(choice.guessed, names[j]) >= 0;
     const std::string field = guessed                ? "the guessed start of " + names[j]

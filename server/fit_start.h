@@ -7,6 +7,7 @@
 #include <string>
 #include <vector>
 
+#include "engine/multistart/multistart_options.h"
 #include "engine/solve/problem.h"
 #include "heuristics/families/catalogue.h"
 #include "server/fit_request.h"
@@ -19,10 +20,13 @@ struct StartChoice {
   std::string origin = "user";
   std::vector<std::string> guessed;   // parameters whose start came from the guesser
   std::vector<std::string> warnings;  // the guesser's notes for people
+  // Every seeded start for multistart, best first: "user" (when the request gives every
+  // free parameter), then each guess candidate with the request's values in place.
+  std::vector<StartCandidate> candidates;
 };
 
 // Fills problem->lower/upper/is_fixed and chooses the start. `family` is null for an
-// expression model (no guesser yet: every free parameter then needs a start);
+// expression model (then the generic guesser supplies candidates);
 // `defaults` are the family's parameters with default bounds (empty for an expression).
 // False with a message naming the field and parameter on unknown names, a parameter in
 // both start and fix, a start or fixed value outside its bounds, or a missing start that

@@ -163,6 +163,12 @@ Json EncodeFitOutcome(const FitOutcome& outcome) {
   document["best"] = EncodeBest(outcome);
   document["basins"] = EncodeBasins(outcome);
   document["starts"] = EncodeStarts(outcome);
+  document["search"] = {{"stop", outcome.search_stop},
+                        {"message", outcome.search_message},
+                        {"starts_planned", outcome.starts_planned},
+                        {"starts_run", outcome.starts.size()},
+                        {"starts_converged", outcome.starts_converged},
+                        {"basins", outcome.basins.size()}};
   document["verdict"] = {{"flags", outcome.verdict.flags}, {"summary", outcome.verdict.summary}};
   document["guessed"] = outcome.guessed;
   document["warnings"] = outcome.warnings;
@@ -219,9 +225,10 @@ Json EncodeFitRequest(const FitRequest& request) {
   document["loss"] = request.loss;
   document["loss_scale"] = request.loss_scale;
   document["method"] = request.method;
-  document["starts"] = request.starts;
+  // 0 means "automatic" for both and is written by leaving the key out.
+  if (request.starts > 0) document["starts"] = request.starts;
   document["seed"] = request.seed;
-  document["threads"] = request.threads;
+  if (request.threads > 0) document["threads"] = request.threads;
   document["deadline_seconds"] = Number(request.deadline_seconds);
   document["max_iterations"] = request.max_iterations;
   document["max_evaluations"] = request.max_evaluations;

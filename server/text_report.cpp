@@ -116,6 +116,40 @@ void WriteStatistics(const FitOutcome& outcome, std::ostream& out) {
   WriteAligned(rows, out);
 }
 
+// Basins beyond this many are counted, not listed: the worst ones are rarely informative.
+constexpr int kMaxBasinRows = 8;
+
+// The search: how many starts ran, why it stopped, and every basin with its parameters.
+void WriteSearch(const FitOutcome& outcome, std::ostream& out) {
+  out << "search: " << outcome.starts.size() << " starts run of " << outcome.starts_planned
+      << " planned, " << outcome.starts_converged << " converged, " << outcome.basins.size()
+      << (outcome.basins.size() == 1 ? " basin" : " basins") << "; stop: " << outcome.search_stop;
+  if (!outcome.search_message.empty()) out << " (" << outcome.search_message << ")";
+  out << '\n';
+  if (outcome.basins.empty()) return;
+  std::vector<std::vector<std::string>> rows;
+  std::vector<std::string> header{"basin", outcome.IsWeighted() ? "chi-square" : "rss",
+                                  "delta", "starts"};
+  for (const std::string& name : outcome.parameter_names) header.push_back(name);
+  rows.push_back(header);
+  for (const Basin& basin : outcome.basins) {
+    if (basin.id >= kMaxBasinRows) break;
+    std::vector<std::string> row{std::to_string(basin.id),
+                                 FormatSignificant(basin.rss, kValueDigits),
+                                 FormatSignificant(basin.delta_rss, kErrorDigits),
+                                 std::to_string(basin.num_starts)};
+    for (Eigen::Index j = 0; j < basin.parameters.size(); ++j) {
+      row.push_back(FormatSignificant(basin.parameters[j], kValueDigits));
+    }
+    rows.push_back(std::move(row));
+  }
+  WriteAligned(rows, out);
+  if (static_cast<int>(outcome.basins.size()) > kMaxBasinRows) {
+    out << "... and " << outcome.basins.size() - kMaxBasinRows
+        << " more basins (all in --json)\n";
+  }
+}
+
 }  // namespace
 
 std::string FormatSignificant(double value, int digits) {
@@ -140,6 +174,8 @@ void WriteFitReport(const FitOutcome& outcome, const std::string& source, std::o
   WriteParameterTable(outcome, out);
   out << '\n';
   WriteStatistics(outcome, out);
+  out << '\n';
+  WriteSearch(outcome, out);
   out << '\n';
   out << "verdict: " << outcome.verdict.summary;
   if (!outcome.verdict.flags.empty()) out << " [" << Join(outcome.verdict.flags) << "]";

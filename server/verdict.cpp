@@ -142,11 +142,28 @@ void AddGoodnessFindings(const FitOutcome& outcome, const VerdictOptions& option
   }
 }
 
+// What the multistart search says about the answer's uniqueness.
+void AddSearchFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
+  if (outcome.ambiguous_basins && outcome.basins.size() > 1) {
+    findings->push_back(
+        {"ambiguous_basins",
+         "Another optimum fits almost as well (gap " + Short(outcome.best_gap_chi2) +
+             " in chi-square units, under 1); the data do not choose between them, so compare "
+             "the basins before trusting one."});
+  }
+  if (outcome.best_basin_single_start) {
+    findings->push_back({"best_basin_single_start",
+                         "Only one start reached the best optimum; run more starts to confirm "
+                         "that nothing better remains."});
+  }
+}
+
 }  // namespace
 
 Verdict JudgeFit(const FitOutcome& outcome, const VerdictOptions& options) {
   std::vector<Finding> findings;
   AddConvergenceFindings(outcome, &findings);
+  AddSearchFindings(outcome, &findings);
   AddIdentifiabilityFindings(outcome, options, &findings);
   AddGoodnessFindings(outcome, options, &findings);
   Verdict verdict;

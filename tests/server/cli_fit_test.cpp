@@ -138,9 +138,19 @@ TEST_CASE("Cli: bad model and parameter choices exit 2 naming the problem", "[se
   std::vector<std::string> outside = kGaussianStart;
   outside.insert(outside.end(), {"--bounds", "center=6:9"});
   CheckBadInput(Run(FitArgs(data, outside)), "start.center = 4.5 is outside its bounds [6, 9]");
-  CheckBadInput(Run(FitArgs(data, {"--expr", "h*exp(-(x-m)^2) + b", "--start", "h=8"})),
-                "start.m: no start value for parameter 'm'; expressions have no automatic "
-                "starting guess yet");
+}
+
+TEST_CASE("Cli: an expression without a full start is completed by the generic guesser",
+          "[server]") {
+  TempDir dir;
+  const std::string data = dir.Write("peak.csv", GaussianCsv());
+  const CliRun run = Run(FitArgs(data, {"--expr", "h*exp(-(x-m)^2/(2*s^2)) + b", "--start", "h=8",
+                                        "--bounds", "s=0.01:10", "--json"}));
+  INFO(run.err);
+  REQUIRE(run.code == foothold::kExitOk);
+  const Json document = Json::parse(run.out);
+  CHECK(document["guessed"] == Json::array({"m", "s", "b"}));
+  CHECK(document["best"]["parameters"]["m"]["value"].get<double>() == Approx(5.0).margin(0.05));
 }
 
 TEST_CASE("Cli: unknown flags, missing values and unknown commands exit 2", "[server]") {
@@ -283,7 +293,7 @@ TEST_CASE("Cli: a request document fits and DATA overrides its data", "[server]"
 TEST_CASE("Cli: a fit that runs out of iterations exits 3 and still prints", "[server]") {
   TempDir dir;
   std::vector<std::string> args = kGaussianStart;
-  args.insert(args.end(), {"--max-iterations", "1", "--json"});
+  args.insert(args.end(), {"--max-iterations", "1", "--starts", "1", "--json"});
   const CliRun run = Run(FitArgs(dir.Write("peak.csv", GaussianCsv()), args));
   REQUIRE(run.code == foothold::kExitNotConverged);
   const Json document = Json::parse(run.out);

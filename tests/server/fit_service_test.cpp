@@ -53,8 +53,12 @@ TEST_CASE("FitService: a clean fit converges with no flags", "[server]") {
   CHECK(outcome.IsConverged());
   CHECK(outcome.verdict.flags.empty());
   CHECK(outcome.best.parameters[1] == Approx(5.0).margin(0.02));
-  REQUIRE(outcome.basins.size() == 1);
+  // Degenerate basins (a peak parked outside the data) may exist, but far above the best.
+  REQUIRE(outcome.basins.size() >= 1);
   CHECK(outcome.starts[0].basin == 0);
+  for (size_t k = 1; k < outcome.basins.size(); ++k) {
+    CHECK(outcome.basins[k].rss > 10 * outcome.basins[0].rss);
+  }
   CHECK(outcome.predictor_names == std::vector<std::string>{"x"});
 }
 
@@ -109,7 +113,8 @@ TEST_CASE("FitService: a parameter may share a name with the sigma column", "[se
   request.start = {{"h", 8}, {"m", 4.5}, {"sigma", 1}, {"b", 0.5}};
   const FitOutcome outcome = Fit(request);
   CHECK(outcome.parameter_names == std::vector<std::string>{"h", "m", "sigma", "b"});
-  CHECK(outcome.best.parameters[2] == Approx(1.2).margin(0.02));
+  // sigma enters squared, so the multistart may report either sign.
+  CHECK(std::abs(outcome.best.parameters[2]) == Approx(1.2).margin(0.02));
 }
 
 TEST_CASE("FitService: inconsistent requests are refused with a precise message", "[server]") {
