@@ -119,14 +119,18 @@ bool LmState::SelectWorkingSet() {
 }
 
 void LmState::FactorizeQr() {
-  const int n = static_cast<int>(f.size());
   const int m = static_cast<int>(working_.size());
-  working_jacobian_.resize(n, m);
-  for (int k = 0; k < m; ++k) working_jacobian_.col(k) = jacobian_.col(working_pos_[k]);
-  qr_.compute(working_jacobian_);
-  system_.r = qr_.matrixQR().topLeftCorner(m, m).triangularView<Eigen::Upper>();
-  system_.pivot = qr_.colsPermutation().indices();
-  scratch_n_.noalias() = qr_.householderQ().transpose() * f;
+  // Pack the working columns to the front (they are in increasing packed order, so moving
+  // left in place is safe) and factor them where they lie: no copy of J.
+  for (int k = 0; k < m; ++k) {
+    if (working_pos_[k] != k) jacobian_.col(k) = jacobian_.col(working_pos_[k]);
+    working_pos_[k] = k;
+  }
+  Eigen::Ref<Eigen::MatrixXd> block = jacobian_.leftCols(m);
+  qr_.emplace(block);
+  system_.r = qr_->matrixQR().topLeftCorner(m, m).triangularView<Eigen::Upper>();
+  system_.pivot = qr_->colsPermutation().indices();
+  scratch_n_.noalias() = qr_->householderQ().transpose() * f;
   system_.qtf = scratch_n_.head(m);
 }
 
@@ -198,7 +202,7 @@ void LmState::PredictFromFactor(const Eigen::VectorXd& step, TrialStep* trial) {
 }
 
 void LmState::ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out) {
-  scratch_n_.noalias() = qr_.householderQ().transpose() * v;
+  scratch_n_.noalias() = qr_->householderQ().transpose() * v;
   *out = scratch_n_.head(static_cast<int>(working_.size()));
 }
 

@@ -16,6 +16,7 @@
 
 #include <Eigen/Core>
 #include <Eigen/QR>
+#include <optional>
 #include <vector>
 
 #include "engine/solve/internal/damped_solve.h"
@@ -91,14 +92,14 @@ class LmState {
   Eigen::MatrixXd trial_jacobian_;  // n x p, the model's Jacobian at x_trial_
   bool jacobian_ready_ = false;     // jacobian_ holds the model's Jacobian at x (unweighted)
   bool trial_has_jacobian_ = false;
-  bool speculate_ = true;             // evaluate the next trial with its Jacobian
-  Eigen::VectorXd gradient_;          // p, J^T f for free columns
-  Eigen::VectorXd column_norms_;      // p
-  Eigen::VectorXd diag_;              // p, scaling D (free entries used)
-  std::vector<int> working_;          // working columns (subset of free)
-  std::vector<int> working_pos_;      // their packed positions in jacobian_
-  Eigen::MatrixXd working_jacobian_;  // the working columns, factored
-  Eigen::ColPivHouseholderQR<Eigen::MatrixXd> qr_;
+  bool speculate_ = true;         // evaluate the next trial with its Jacobian
+  Eigen::VectorXd gradient_;      // p, J^T f for free columns
+  Eigen::VectorXd column_norms_;  // p
+  Eigen::VectorXd diag_;          // p, scaling D (free entries used)
+  std::vector<int> working_;      // working columns (subset of free)
+  std::vector<int> working_pos_;  // their packed positions in jacobian_
+  // In-place pivoted QR of jacobian_'s leading working columns (rebuilt per Jacobian).
+  std::optional<Eigen::ColPivHouseholderQR<Eigen::Ref<Eigen::MatrixXd>>> qr_;
   DampedSystem system_;
   Eigen::VectorXd working_diag_;
   Eigen::VectorXd solution_;     // m
