@@ -109,7 +109,9 @@ void GuessBiexpDecay(const Curve& curve, CandidateSet* set) {
     Eigen::VectorXd p(5);
     p << pencil.terms[1].amplitude, 1.0 / pencil.terms[1].rate, pencil.terms[0].amplitude,
         1.0 / pencil.terms[0].rate, pencil.offset;
-    set->Add("pencil", p);
+    // Lifetimes far beyond the span make a straight line that trades against the baseline
+    // with huge opposite amplitudes: not a start worth offering.
+    if (std::max(p[1], p[3]) <= kTauHighShare * span) set->Add("pencil", p);
   }
   // Split: the late window holds the slow component and the baseline; the early window's
   // remainder is the fast component.
