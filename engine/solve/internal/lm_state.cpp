@@ -95,9 +95,11 @@ bool LmState::EvaluateJacobian() {
   }
   const auto packed = jacobian_.leftCols(k);
   for (int c = 0; c < k; ++c) {
-    if (!packed.col(c).allFinite()) return false;
+    // A NaN or inf entry makes the norm non-finite; only then is the column scanned (finite
+    // entries whose squares overflow still count as finite).
     gradient_[free[c]] = packed.col(c).dot(f);
     column_norms_[free[c]] = packed.col(c).norm();
+    if (!std::isfinite(column_norms_[free[c]]) && !packed.col(c).allFinite()) return false;
   }
   return true;
 }
