@@ -3,6 +3,7 @@
 #include "server/fit_flags.h"
 #include "server/fit_service.h"
 #include "server/json_codec.h"
+#include "server/serve_command.h"
 #include "server/text_report.h"
 
 namespace foothold {
@@ -14,6 +15,7 @@ Fits curves to measured data: a catalogue family or your own expression.
 
 commands:
   fit DATA ...      fit one dataset locally and print the result (foothold fit --help)
+  serve             run the HTTP daemon (foothold serve --help)
   families          list the model catalogue: name, parameters, formula (--json for JSON)
   help              this text
 
@@ -100,6 +102,7 @@ int RunCli(const std::vector<std::string>& args, std::ostream& out, std::ostream
   }
   if (command == "fit") return RunFitCommand(rest, out, err);
   if (command == "families") return RunFamilies(rest, out, err);
+  if (command == "serve") return RunServe(rest, out, err);
   return BadInput(
       "unknown command '" + command + "' (commands: fit, families; see foothold --help)", err);
 }
