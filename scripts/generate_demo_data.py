@@ -216,6 +216,9 @@ def datasets():
             "parameters": list(truth),
             "truth": truth,
             "start": start,
+            # An inhibitor lowers activity: a negative hill slope. Without this bound the
+            # mirror curve (bottom and top swapped, hill of opposite sign) fits as well.
+            "bounds": "hill=-10:0",
             "rows": make_potency(file, truth, 3.0),
         })
 
@@ -238,11 +241,15 @@ def datasets():
         "title": "Cantilever ring-down",
         "about": "Free decay of a test cantilever after the drive is switched off: x time "
                  "(ms), y tip deflection (nm), frequency in kHz (cycles per ms), noise "
-                 "0.6 nm.",
+                 "0.6 nm, sampled at 20 kHz (the bounds keep the frequency below the 10 kHz "
+                 "Nyquist limit, where its aliases would fit equally well).",
         "family": "damped_sine",
         "parameters": list(ringdown_truth),
         "truth": ringdown_truth,
         "start": {"amplitude": 40, "tau": 5, "frequency": 0.85, "phase": 0, "baseline": 0},
+        # Sampled at 20 kHz: frequencies above the 10 kHz Nyquist limit are aliases that fit
+        # exactly as well, and so are a negative amplitude or a phase shifted by 2*pi.
+        "bounds": "amplitude=0:inf,frequency=0:10,phase=-3.1416:3.1416",
         "rows": make_ringdown("ringdown_cantilever.csv", ringdown_truth, 0.6),
     })
 
