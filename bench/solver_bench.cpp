@@ -334,7 +334,7 @@ void RunProblem(const BenchProblem& problem, const std::string& label, bool use_
   if (!use_expression) {
     const double bound_us = 1e6 * LowerBoundSeconds(problem, foothold.result, costs);
     std::printf(
-        "arithmetic lower bound %.1f us (foothold's %d evaluations + %d Jacobians); "
+        "arithmetic lower bound %.1f us (foothold's %d evaluations, %d with Jacobian); "
         "foothold / bound = %.2f\n",
         bound_us, foothold.result.evaluations, foothold.result.jacobian_evaluations,
         foothold_us / bound_us);
