@@ -78,6 +78,12 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
                          "{\"x\": [...], \"y\": [...]}");
       return false;
     }
+    if (!out->model.IsFamily() && out->model.expression.empty()) {
+      *problem = ProblemFor(request, 400, "invalid-request", "Bad Request",
+                            "model: required, {\"family\": \"<name>\"} or {\"expression\": "
+                            "\"...\", \"parameters\": [...]}");
+      return false;
+    }
     *stored_document = request.body();
     return true;
   }
