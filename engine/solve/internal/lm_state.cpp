@@ -132,8 +132,20 @@ void LmState::FactorizeQr() {
   qr_.emplace(block);
   system_.r = qr_->matrixQR().topLeftCorner(m, m).triangularView<Eigen::Upper>();
   system_.pivot = qr_->colsPermutation().indices();
-  scratch_n_.noalias() = qr_->householderQ().transpose() * f;
+  scratch_n_ = f;
+  ApplyReflectors(&scratch_n_);
   system_.qtf = scratch_n_.head(m);
+}
+
+void LmState::ApplyReflectors(Eigen::VectorXd* v) {
+  // Q^T v = H_{m-1} ... H_0 v, reflector by reflector exactly as Eigen's sequence product
+  // does for one column (the same rounding), without its copy and workspace allocation.
+  const Eigen::Index n = v->size();
+  const auto& factored = qr_->matrixQR();
+  for (Eigen::Index k = 0; k < static_cast<Eigen::Index>(working_.size()); ++k) {
+    v->bottomRows(n - k).applyHouseholderOnTheLeft(factored.col(k).tail(n - k - 1),
+                                                   qr_->hCoeffs()[k], &reflector_work_);
+  }
 }
 
 void LmState::Factorize() {
@@ -204,7 +216,8 @@ void LmState::PredictFromFactor(const Eigen::VectorXd& step, TrialStep* trial) {
 }
 
 void LmState::ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out) {
-  scratch_n_.noalias() = qr_->householderQ().transpose() * v;
+  scratch_n_ = v;
+  ApplyReflectors(&scratch_n_);
   *out = scratch_n_.head(static_cast<int>(working_.size()));
 }
 

@@ -76,6 +76,8 @@ class LmState {
   void PredictFromFactor(const Eigen::VectorXd& step, TrialStep* trial);
   // R P^T s into `out` (size m).
   void MultiplyByFactor(const Eigen::VectorXd& step, Eigen::VectorXd* out) const;
+  // v <- Q^T v with the reflectors of the last factorisation.
+  void ApplyReflectors(Eigen::VectorXd* v);
   // The first m entries of Q^T v.
   void ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out);
   // Moves the working-order step into x_trial_ within the bounds; true when it was clipped.
@@ -108,6 +110,7 @@ class LmState {
   Eigen::VectorXd x_trial_;      // p
   Eigen::VectorXd f_trial_;      // n
   Eigen::VectorXd scratch_n_;    // n
+  double reflector_work_ = 0;    // Eigen's workspace for one reflector on one column
   double trial_fnorm_ = 0;
 };
 
