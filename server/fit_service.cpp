@@ -414,7 +414,7 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
   } else {
     RunManyStarts(request, prepared, hooks, &outcome);
   }
-  outcome.verdict = JudgeFit(outcome);
+  outcome.verdict = JudgeFit(outcome, prepared.problem);
   outcome.elapsed_ms =
       std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - started).count();
   return outcome;

@@ -1,13 +1,18 @@
 #include "server/verdict.h"
 
+#include <algorithm>
 #include <boost/math/distributions/chi_squared.hpp>
+#include <boost/math/distributions/normal.hpp>
 #include <cmath>
 #include <cstdio>
+#include <limits>
 #include <string>
 #include <vector>
 
 namespace foothold {
 namespace {
+
+constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 
 std::string Short(double value) {
   char buffer[32];
@@ -28,6 +33,22 @@ struct Finding {
   std::string flag;
   std::string sentence;
 };
+
+// The data's x range, NaN when the problem has no "x" predictor or no points.
+struct XRange {
+  double min = kNaN;
+  double max = kNaN;
+  bool IsKnown() const { return std::isfinite(min) && std::isfinite(max); }
+};
+
+XRange XRangeOf(const Problem& problem) {
+  XRange range;
+  const int column = problem.data.PredictorIndex("x");
+  if (column < 0 || problem.data.predictors.rows() == 0) return range;
+  range.min = problem.data.predictors.col(column).minCoeff();
+  range.max = problem.data.predictors.col(column).maxCoeff();
+  return range;
+}
 
 // What to do about each way of stopping short, in the user's terms.
 std::string StopAdvice(Termination termination) {
@@ -58,6 +79,23 @@ void AddConvergenceFindings(const FitOutcome& outcome, std::vector<Finding>* fin
   }
 }
 
+// dof < max(min_degrees_of_freedom, free parameters): too little data beyond the parameters
+// to estimate the noise or test the residuals.
+void AddSizeFindings(const FitOutcome& outcome, const VerdictOptions& options,
+                     std::vector<Finding>* findings) {
+  const FitStatistics& stats = outcome.statistics;
+  if (stats.num_free == 0) return;
+  const int needed = std::max(options.min_degrees_of_freedom, stats.num_free);
+  if (stats.dof >= needed) return;
+  findings->push_back(
+      {"too_few_points", std::to_string(stats.num_points) + " points for " +
+                             std::to_string(stats.num_free) + " free parameters leave " +
+                             std::to_string(stats.dof) + " degrees of freedom (at least " +
+                             std::to_string(needed) +
+                             " needed); add points or fix parameters before trusting the "
+                             "uncertainties."});
+}
+
 void AddIdentifiabilityFindings(const FitOutcome& outcome, const VerdictOptions& options,
                                 std::vector<Finding>* findings) {
   const FitStatistics& stats = outcome.statistics;
@@ -66,26 +104,35 @@ void AddIdentifiabilityFindings(const FitOutcome& outcome, const VerdictOptions&
     std::vector<std::string> affected;
     for (int j : stats.unidentifiable) affected.push_back(names[j]);
     findings->push_back({"not_identifiable", "The data cannot determine " + JoinNames(affected) +
-                                                 "; fix one of them or simplify the model."});
+                                                 " (the Jacobian is rank deficient); fix one of "
+                                                 "them or simplify the model."});
   } else if (stats.condition_number > options.max_condition_number) {
     findings->push_back(
-        {"ill_conditioned", "The Jacobian is ill-conditioned (condition number " +
-                                Short(stats.condition_number) +
-                                "); the errors are unreliable, consider fixing or rescaling "
-                                "parameters."});
+        {"not_identifiable", "The parameters are barely determined (condition number " +
+                                 Short(stats.condition_number) + " > " +
+                                 Short(options.max_condition_number) +
+                                 "); fix or rescale parameters before trusting the errors."});
   }
+}
+
+void AddBoundFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
+  const FitStatistics& stats = outcome.statistics;
+  const std::vector<std::string>& names = outcome.parameter_names;
   std::vector<std::string> at_bound;
   for (size_t j = 0; j < names.size() && j < stats.at_bound.size(); ++j) {
     const bool fixed = j < outcome.is_fixed.size() && outcome.is_fixed[j];
     if (stats.at_bound[j] && !fixed) at_bound.push_back(names[j]);
   }
-  if (!at_bound.empty()) {
-    findings->push_back({"at_bound", JoinNames(at_bound) +
-                                         (at_bound.size() == 1 ? " sits" : " sit") +
-                                         " on a bound, so the optimum may lie beyond it; widen "
-                                         "the bounds or check the model."});
-  }
-  const Eigen::MatrixXd& correlation = stats.correlation;
+  if (at_bound.empty()) return;
+  findings->push_back({"at_bound", JoinNames(at_bound) + (at_bound.size() == 1 ? " sits" : " sit") +
+                                       " on a bound, so the optimum may lie beyond it; widen "
+                                       "the bounds or check the model."});
+}
+
+void AddCorrelationFindings(const FitOutcome& outcome, const VerdictOptions& options,
+                            std::vector<Finding>* findings) {
+  const Eigen::MatrixXd& correlation = outcome.statistics.correlation;
+  const std::vector<std::string>& names = outcome.parameter_names;
   double worst = 0;
   int worst_a = -1;
   int worst_b = -1;
@@ -99,73 +146,154 @@ void AddIdentifiabilityFindings(const FitOutcome& outcome, const VerdictOptions&
       }
     }
   }
-  if (worst_a >= 0 && std::abs(worst) > options.max_abs_correlation) {
-    findings->push_back({"highly_correlated", names[worst_a] + " and " + names[worst_b] +
-                                                  " are almost interchangeable (correlation " +
-                                                  Short(worst) + "); fix one or reparametrise."});
-  }
+  if (worst_a < 0 || std::abs(worst) <= options.max_abs_correlation) return;
+  findings->push_back({"strongly_correlated",
+                       names[worst_a] + " and " + names[worst_b] +
+                           " trade off against each other (correlation " + Short(worst) +
+                           "); their individual errors mislead, so fix one, reparametrise or "
+                           "measure where they differ."});
 }
 
-void AddGoodnessFindings(const FitOutcome& outcome, const VerdictOptions& options,
+// Runs test (Wald & Wolfowitz 1940) and Durbin–Watson (Durbin & Watson 1950). Under
+// independent residuals DW is asymptotically normal with mean 2 and variance 4/n, since
+// DW ~ 2(1 - r1) and the lag-1 autocorrelation r1 has variance 1/n.
+void AddResidualFindings(const FitOutcome& outcome, const VerdictOptions& options,
                          std::vector<Finding>* findings) {
   const FitStatistics& stats = outcome.statistics;
-  if (stats.dof <= 0) {
-    findings->push_back({"no_degrees_of_freedom",
-                         "There are as many free parameters as points, so no uncertainty can "
-                         "be estimated; add data or fix parameters."});
-    return;
-  }
-  if (outcome.IsWeighted() && outcome.sigma_mode == SigmaMode::kAbsolute &&
-      std::isfinite(stats.rss)) {
-    const boost::math::chi_squared distribution(stats.dof);
-    const double upper_tail = boost::math::cdf(boost::math::complement(distribution, stats.rss));
-    const double lower_tail = boost::math::cdf(distribution, stats.rss);
-    if (upper_tail < options.chi2_tail_probability) {
-      findings->push_back({"chi2_high",
-                           "The residuals are larger than the given sigma allow (reduced "
-                           "chi-square " +
-                               Short(stats.reduced_chi2) +
-                               "); the sigma are too small or the model misses something."});
-    } else if (lower_tail < options.chi2_tail_probability) {
-      findings->push_back({"chi2_low",
-                           "The residuals are smaller than the given sigma suggest (reduced "
-                           "chi-square " +
-                               Short(stats.reduced_chi2) +
-                               "); the sigma are probably overestimated."});
-    }
-  }
-  if (std::isfinite(stats.runs_p_value) && stats.runs_p_value < options.min_runs_p_value) {
+  if (std::isfinite(stats.runs_p_value) && stats.runs_p_value < options.runs_test_level) {
     findings->push_back(
         {"structured_residuals",
          "The residual signs run in long stretches (runs test p = " + Short(stats.runs_p_value) +
-             "); the model probably misses a feature of the data."});
+             " < " + Short(options.runs_test_level) +
+             "); the model probably misses a feature of the data: look at the residual plot."});
+    return;
   }
+  if (stats.num_points < 2 || !std::isfinite(stats.durbin_watson)) return;
+  const boost::math::normal standard_normal;
+  const double z = boost::math::quantile(standard_normal, 1 - options.durbin_watson_level / 2);
+  const double half_width = z * 2 / std::sqrt(static_cast<double>(stats.num_points));
+  if (std::abs(stats.durbin_watson - 2) <= half_width) return;
+  const bool positive = stats.durbin_watson < 2;
+  findings->push_back(
+      {"structured_residuals", std::string("Neighbouring residuals are ") +
+                                   (positive ? "alike" : "alternating") + " (Durbin-Watson " +
+                                   Short(stats.durbin_watson) + ", outside 2 +- " +
+                                   Short(half_width) + "); " +
+                                   (positive ? "the model probably misses a feature of the data"
+                                             : "the noise is not independent") +
+                                   ": look at the residual plot."});
+}
+
+// With absolute sigma the chi-square follows the chi-square distribution with dof degrees of
+// freedom when model and sigma are right; outside its central range one of them is wrong.
+void AddChiSquareFindings(const FitOutcome& outcome, const VerdictOptions& options,
+                          std::vector<Finding>* findings) {
+  const FitStatistics& stats = outcome.statistics;
+  if (stats.dof <= 0 || !outcome.IsWeighted() || outcome.sigma_mode != SigmaMode::kAbsolute ||
+      !std::isfinite(stats.rss)) {
+    return;
+  }
+  const boost::math::chi_squared distribution(stats.dof);
+  const double tail = (1 - options.chi2_range_probability) / 2;
+  const double low = boost::math::quantile(distribution, tail) / stats.dof;
+  const double high = boost::math::quantile(distribution, 1 - tail) / stats.dof;
+  const std::string range = "outside its " + Short(100 * options.chi2_range_probability) +
+                            "% range " + Short(low) + " to " + Short(high) + " for " +
+                            std::to_string(stats.dof) + " degrees of freedom";
+  if (stats.reduced_chi2 > high) {
+    findings->push_back({"chi2_inconsistent",
+                         "The residuals are larger than the given sigma allow (reduced "
+                         "chi-square " +
+                             Short(stats.reduced_chi2) + " is too high, " + range +
+                             "); the sigma are too small or the model misses something."});
+  } else if (stats.reduced_chi2 < low) {
+    findings->push_back({"chi2_inconsistent",
+                         "The residuals are smaller than the given sigma suggest (reduced "
+                         "chi-square " +
+                             Short(stats.reduced_chi2) + " is too low, " + range +
+                             "); the sigma are probably overestimated, so the errors are too "
+                             "wide."});
+  }
+}
+
+// Location parameters of the catalogue families: the x of a peak, a midpoint or an
+// inflection. Expressions have no such names and are not judged.
+struct Location {
+  std::string label;
+  double value = kNaN;
+};
+
+std::vector<Location> LocationsOf(const FitOutcome& outcome) {
+  std::vector<Location> locations;
+  if (!outcome.model.IsFamily()) return locations;
+  const std::vector<std::string>& names = outcome.parameter_names;
+  const Eigen::VectorXd& p = outcome.best.parameters;
+  if (p.size() != static_cast<Eigen::Index>(names.size())) return locations;
+  int displacement = -1;
+  int rate = -1;
+  for (size_t j = 0; j < names.size(); ++j) {
+    const std::string& name = names[j];
+    if (name.rfind("center", 0) == 0 || name == "log_ec50" || name == "km" || name == "kd") {
+      locations.push_back({name, p[j]});
+    }
+    if (name == "displacement") displacement = static_cast<int>(j);
+    if (name == "rate") rate = static_cast<int>(j);
+  }
+  if (outcome.model.family == "gompertz" && displacement >= 0 && rate >= 0 && p[rate] != 0) {
+    locations.push_back({"the inflection (displacement/rate)", p[displacement] / p[rate]});
+  }
+  return locations;
+}
+
+void AddExtrapolationFindings(const FitOutcome& outcome, const XRange& range,
+                              const VerdictOptions& options, std::vector<Finding>* findings) {
+  if (!range.IsKnown()) return;
+  const double margin = options.extrapolation_margin * (range.max - range.min);
+  std::vector<std::string> outside;
+  for (const Location& location : LocationsOf(outcome)) {
+    if (!std::isfinite(location.value)) continue;
+    if (location.value < range.min - margin || location.value > range.max + margin) {
+      outside.push_back(location.label + " = " + Short(location.value));
+    }
+  }
+  if (outside.empty()) return;
+  findings->push_back({"extrapolated", JoinNames(outside) + " lies outside the data's x range " +
+                                           Short(range.min) + " to " + Short(range.max) +
+                                           "; the value is an extrapolation, so measure "
+                                           "across it before relying on it."});
 }
 
 // What the multistart search says about the answer's uniqueness.
-void AddSearchFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
-  if (outcome.ambiguous_basins && outcome.basins.size() > 1) {
-    findings->push_back(
-        {"ambiguous_basins",
-         "Another optimum fits almost as well (gap " + Short(outcome.best_gap_chi2) +
-             " in chi-square units, under 1); the data do not choose between them, so compare "
-             "the basins before trusting one."});
-  }
-  if (outcome.best_basin_single_start) {
-    findings->push_back({"best_basin_single_start",
-                         "Only one start reached the best optimum; run more starts to confirm "
-                         "that nothing better remains."});
-  }
+void AddAmbiguityFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
+  if (!outcome.ambiguous_basins || outcome.basins.size() <= 1) return;
+  findings->push_back(
+      {"ambiguous_basins",
+       "Another optimum fits almost as well (gap " + Short(outcome.best_gap_chi2) +
+           " in chi-square units, under 1); the data do not choose between them, so compare "
+           "the basins before trusting one."});
 }
 
-}  // namespace
+void AddSingleStartFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
+  if (!outcome.best_basin_single_start) return;
+  findings->push_back({"best_basin_single_start",
+                       "Only one start reached the best optimum; run more starts to confirm "
+                       "that nothing better remains."});
+}
 
-Verdict JudgeFit(const FitOutcome& outcome, const VerdictOptions& options) {
+Verdict Judge(const FitOutcome& outcome, const XRange& range, const VerdictOptions& options) {
+  // Most severe first: nothing to judge, too little data, an answer that is not unique, an
+  // answer the model or the noise contradicts, then cautions about single parameters.
   std::vector<Finding> findings;
   AddConvergenceFindings(outcome, &findings);
-  AddSearchFindings(outcome, &findings);
+  AddSizeFindings(outcome, options, &findings);
   AddIdentifiabilityFindings(outcome, options, &findings);
-  AddGoodnessFindings(outcome, options, &findings);
+  AddAmbiguityFindings(outcome, &findings);
+  AddBoundFindings(outcome, &findings);
+  AddResidualFindings(outcome, options, &findings);
+  AddChiSquareFindings(outcome, options, &findings);
+  AddCorrelationFindings(outcome, options, &findings);
+  AddExtrapolationFindings(outcome, range, options, &findings);
+  AddSingleStartFindings(outcome, &findings);
   Verdict verdict;
   for (const Finding& finding : findings) verdict.flags.push_back(finding.flag);
   if (findings.empty()) {
@@ -174,6 +302,47 @@ Verdict JudgeFit(const FitOutcome& outcome, const VerdictOptions& options) {
     verdict.summary = findings.front().sentence;
   }
   return verdict;
+}
+
+bool InOpenUnit(double value) { return value > 0 && value < 1; }
+
+}  // namespace
+
+bool VerdictOptions::Validate(std::string* error) const {
+  auto fail = [error](const std::string& field, double value, const std::string& rule) {
+    *error = field + " = " + Short(value) + ": " + rule;
+    return false;
+  };
+  if (!InOpenUnit(max_abs_correlation)) {
+    return fail("max_abs_correlation", max_abs_correlation, "must be in (0, 1)");
+  }
+  if (!(max_condition_number > 1)) {
+    return fail("max_condition_number", max_condition_number, "must be > 1");
+  }
+  if (!InOpenUnit(runs_test_level)) {
+    return fail("runs_test_level", runs_test_level, "must be in (0, 1)");
+  }
+  if (!InOpenUnit(durbin_watson_level)) {
+    return fail("durbin_watson_level", durbin_watson_level, "must be in (0, 1)");
+  }
+  if (!InOpenUnit(chi2_range_probability)) {
+    return fail("chi2_range_probability", chi2_range_probability, "must be in (0, 1)");
+  }
+  if (min_degrees_of_freedom < 1) {
+    return fail("min_degrees_of_freedom", min_degrees_of_freedom, "must be >= 1");
+  }
+  if (!(extrapolation_margin >= 0) || !std::isfinite(extrapolation_margin)) {
+    return fail("extrapolation_margin", extrapolation_margin, "must be finite and >= 0");
+  }
+  return true;
+}
+
+Verdict JudgeFit(const FitOutcome& outcome, const VerdictOptions& options) {
+  return Judge(outcome, XRange{}, options);
+}
+
+Verdict JudgeFit(const FitOutcome& outcome, const Problem& problem, const VerdictOptions& options) {
+  return Judge(outcome, XRangeOf(problem), options);
 }
 
 }  // namespace foothold

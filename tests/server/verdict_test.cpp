@@ -1,0 +1,216 @@
+// Verdict flags through the whole fit path: one generated dataset per flag triggers exactly
+// that flag, and a clean well-posed fit triggers none. Thresholds are VerdictOptions'
+// defaults (docs/verdicts.md).
+#include "server/verdict.h"
+
+#include <catch2/catch.hpp>
+#include <cmath>
+#include <functional>
+#include <random>
+#include <sstream>
+#include <string>
+#include <vector>
+
+#include "server/fit_service.h"
+
+using foothold::FitOutcome;
+using foothold::FitRequest;
+
+namespace {
+
+constexpr double kNoise = 0.1;       // standard deviation of the generated noise
+constexpr std::uint32_t kSeed = 11;  // of the noise stream
+
+// Gaussian noise from a fixed Mersenne Twister stream by Box–Muller, so the data do not
+// depend on the standard library's normal_distribution.
+class Noise {
+ public:
+  explicit Noise(std::uint32_t seed) : engine_(seed) {}
+  double Next() {
+    const double u1 = (engine_() + 1.0) / 4294967297.0;
+    const double u2 = (engine_() + 1.0) / 4294967297.0;
+    return std::sqrt(-2 * std::log(u1)) * std::cos(2 * M_PI * u2);
+  }
+
+ private:
+  std::mt19937 engine_;
+};
+
+// n points on [x0, x1] of f plus noise of standard deviation `noise`; a sigma column of
+// `stated_sigma` when it is > 0 (absolute sigma).
+FitRequest Generate(const std::function<double(double)>& f, int n, double x0, double x1,
+                    double noise, double stated_sigma = 0, std::uint32_t seed = kSeed) {
+  Noise stream(seed);
+  std::vector<double> x;
+  std::vector<double> y;
+  for (int i = 0; i < n; ++i) {
+    x.push_back(x0 + (x1 - x0) * i / (n - 1));
+    y.push_back(f(x.back()) + noise * stream.Next());
+  }
+  FitRequest request;
+  std::string error;
+  REQUIRE(request.data.AddColumn("x", x, &error));
+  REQUIRE(request.data.AddColumn("y", y, &error));
+  if (stated_sigma > 0) {
+    REQUIRE(request.data.AddColumn("sigma", std::vector<double>(x.size(), stated_sigma), &error));
+  }
+  request.threads = 2;
+  return request;
+}
+
+double Gaussian(double x, double height, double center, double sigma, double baseline) {
+  return height * std::exp(-(x - center) * (x - center) / (2 * sigma * sigma)) + baseline;
+}
+
+FitRequest CleanGaussian(double stated_sigma = kNoise) {
+  FitRequest request =
+      Generate([](double x) { return Gaussian(x, 10, 5, 1, 1); }, 60, 0, 10, kNoise, stated_sigma);
+  request.model.family = "gaussian";
+  return request;
+}
+
+FitOutcome Fit(const FitRequest& request) {
+  FitOutcome outcome;
+  std::string error;
+  const bool ok = foothold::RunFit(request, &outcome, &error);
+  INFO(error);
+  REQUIRE(ok);
+  return outcome;
+}
+
+std::string Describe(const FitOutcome& outcome) {
+  std::ostringstream text;
+  text << "flags:";
+  for (const std::string& flag : outcome.verdict.flags) text << ' ' << flag;
+  text << "\nsummary: " << outcome.verdict.summary << "\nparameters:";
+  for (Eigen::Index j = 0; j < outcome.best.parameters.size(); ++j) {
+    text << ' ' << outcome.parameter_names[j] << '=' << outcome.best.parameters[j];
+  }
+  const foothold::FitStatistics& s = outcome.statistics;
+  text << "\nreduced_chi2 " << s.reduced_chi2 << " runs_p " << s.runs_p_value << " dw "
+       << s.durbin_watson << " cond " << s.condition_number << " basins " << outcome.basins.size()
+       << " gap " << outcome.best_gap_chi2;
+  return text.str();
+}
+
+void RequireOnly(const FitOutcome& outcome, const std::string& flag) {
+  INFO(Describe(outcome));
+  REQUIRE(outcome.verdict.flags == std::vector<std::string>{flag});
+  CHECK_FALSE(outcome.verdict.summary.empty());
+}
+
+}  // namespace
+
+TEST_CASE("Verdict: a clean well-posed fit raises no flag and says so", "[server]") {
+  const FitOutcome outcome = Fit(CleanGaussian());
+  INFO(Describe(outcome));
+  CHECK(outcome.verdict.flags.empty());
+  CHECK(outcome.verdict.summary ==
+        "Converged to a well-determined optimum; the residuals show no structure.");
+}
+
+TEST_CASE("Verdict: an iteration limit gives not_converged", "[server]") {
+  FitRequest request = CleanGaussian(0);
+  request.starts = 1;
+  request.max_iterations = 1;
+  request.start = {{"height", 10.05}, {"center", 5.01}, {"sigma", 1.01}, {"baseline", 1.02}};
+  RequireOnly(Fit(request), "not_converged");
+}
+
+TEST_CASE("Verdict: a model undefined at the start gives non_finite_model", "[server]") {
+  FitRequest request = Generate([](double x) { return 2 * std::sqrt(x); }, 30, 0, 10, kNoise);
+  request.model.expression = "a*sqrt(x - c)";
+  request.start = {{"a", 2}, {"c", 5}};
+  request.starts = 1;
+  const FitOutcome outcome = Fit(request);
+  INFO(Describe(outcome));
+  REQUIRE_FALSE(outcome.verdict.flags.empty());
+  CHECK(outcome.verdict.flags.front() == "non_finite_model");
+}
+
+TEST_CASE("Verdict: four points for a line give too_few_points", "[server]") {
+  FitRequest request = Generate([](double x) { return 2 * x + 1; }, 4, -1.5, 1.5, kNoise);
+  request.model.family = "line";
+  RequireOnly(Fit(request), "too_few_points");
+}
+
+TEST_CASE("Verdict: parameters entering only as a sum give not_identifiable", "[server]") {
+  FitRequest request = Generate([](double x) { return 3 * x + 1; }, 30, -3, 3, kNoise);
+  request.model.expression = "a*x + b*x + c";
+  request.start = {{"a", 1}, {"b", 1}, {"c", 0}};
+  request.starts = 1;
+  RequireOnly(Fit(request), "not_identifiable");
+}
+
+TEST_CASE("Verdict: a sign the data cannot see gives ambiguous_basins", "[server]") {
+  // a and -a fit identically; the multistart finds both optima with no gap.
+  FitRequest request = Generate([](double x) { return 4 * x + 1; }, 40, -3, 3, kNoise);
+  request.model.expression = "a^2*x + b";
+  request.start = {{"a", 1}, {"b", 0}};
+  request.bounds = {{"a", -5, 5}, {"b", -5, 5}};
+  request.starts = 16;
+  RequireOnly(Fit(request), "ambiguous_basins");
+}
+
+TEST_CASE("Verdict: a bound that holds the optimum back gives at_bound", "[server]") {
+  FitRequest request = CleanGaussian(0);
+  request.model.family = "gaussian";
+  request.bounds = {{"baseline", 1.06, 5}};
+  RequireOnly(Fit(request), "at_bound");
+}
+
+TEST_CASE("Verdict: a line far from x = 0 gives strongly_correlated", "[server]") {
+  FitRequest request = Generate([](double x) { return 0.5 * x + 3; }, 40, 100, 101, kNoise);
+  request.model.family = "line";
+  const FitOutcome outcome = Fit(request);
+  RequireOnly(outcome, "strongly_correlated");
+  CHECK(outcome.verdict.summary.find("slope and intercept") != std::string::npos);
+}
+
+TEST_CASE("Verdict: a line through a parabola gives structured_residuals", "[server]") {
+  FitRequest request =
+      Generate([](double x) { return x + 0.2 * (x - 5) * (x - 5); }, 40, 0, 10, kNoise);
+  request.model.family = "line";
+  RequireOnly(Fit(request), "structured_residuals");
+}
+
+TEST_CASE("Verdict: sigma stated too small gives chi2_inconsistent, high side", "[server]") {
+  const FitOutcome outcome = Fit(CleanGaussian(kNoise / 2));
+  RequireOnly(outcome, "chi2_inconsistent");
+  CHECK(outcome.verdict.summary.find("too high") != std::string::npos);
+}
+
+TEST_CASE("Verdict: sigma stated too large gives chi2_inconsistent, low side", "[server]") {
+  const FitOutcome outcome = Fit(CleanGaussian(3 * kNoise));
+  RequireOnly(outcome, "chi2_inconsistent");
+  CHECK(outcome.verdict.summary.find("too low") != std::string::npos);
+}
+
+TEST_CASE("Verdict: a peak centred beyond the last point gives extrapolated", "[server]") {
+  FitRequest request =
+      Generate([](double x) { return Gaussian(x, 10, 10.4, 1.5, 1); }, 60, 0, 10, kNoise);
+  request.model.family = "gaussian";
+  const FitOutcome outcome = Fit(request);
+  RequireOnly(outcome, "extrapolated");
+  CHECK(outcome.verdict.summary.find("center") != std::string::npos);
+}
+
+TEST_CASE("Verdict: expressions are not judged for extrapolation", "[server]") {
+  FitRequest request =
+      Generate([](double x) { return Gaussian(x, 10, 10.4, 1.5, 1); }, 60, 0, 10, kNoise);
+  request.model.expression = "height*exp(-(x-center)^2/(2*s^2)) + b";
+  request.start = {{"height", 9}, {"center", 10}, {"s", 1.4}, {"b", 1}};
+  const FitOutcome outcome = Fit(request);
+  INFO(Describe(outcome));
+  CHECK(std::find(outcome.verdict.flags.begin(), outcome.verdict.flags.end(), "extrapolated") ==
+        outcome.verdict.flags.end());
+}
+
+TEST_CASE("Verdict: options validate with the field, value and rule", "[server]") {
+  foothold::VerdictOptions options;
+  std::string error;
+  CHECK(options.Validate(&error));
+  options.max_abs_correlation = 1.5;
+  CHECK_FALSE(options.Validate(&error));
+  CHECK(error == "max_abs_correlation = 1.5: must be in (0, 1)");
+}
