@@ -1,5 +1,6 @@
 #include "server/cli.h"
 
+#include "server/compare_command.h"
 #include "server/fit_flags.h"
 #include "server/fit_service.h"
 #include "server/json_codec.h"
@@ -15,6 +16,7 @@ Fits curves to measured data: a catalogue family or your own expression.
 
 commands:
   fit DATA ...      fit one dataset locally and print the result (foothold fit --help)
+  compare DATA ...  fit several families and rank them by AICc (foothold compare --help)
   serve             run the HTTP daemon (foothold serve --help)
   families          list the model catalogue: name, parameters, formula (--json for JSON)
   help              this text
@@ -101,6 +103,7 @@ int RunCli(const std::vector<std::string>& args, std::ostream& out, std::ostream
     return kExitOk;
   }
   if (command == "fit") return RunFitCommand(rest, out, err);
+  if (command == "compare") return RunCompare(rest, out, err);
   if (command == "families") return RunFamilies(rest, out, err);
   if (command == "serve") return RunServe(rest, out, err);
   return BadInput(
