@@ -1,5 +1,6 @@
 #include "server/cli.h"
 
+#include "server/demo_command.h"
 #include "server/compare_command.h"
 #include "server/fit_flags.h"
 #include "server/fit_service.h"
@@ -18,6 +19,7 @@ commands:
   fit DATA ...      fit one dataset locally and print the result (foothold fit --help)
   compare DATA ...  fit several families and rank them by AICc (foothold compare --help)
   serve             run the HTTP daemon (foothold serve --help)
+  demo              fit the demo datasets through a temporary daemon (foothold demo --help)
   families          list the model catalogue: name, parameters, formula (--json for JSON)
   help              this text
 
@@ -106,6 +108,7 @@ int RunCli(const std::vector<std::string>& args, std::ostream& out, std::ostream
   if (command == "compare") return RunCompare(rest, out, err);
   if (command == "families") return RunFamilies(rest, out, err);
   if (command == "serve") return RunServe(rest, out, err);
+  if (command == "demo") return RunDemo(rest, out, err);
   return BadInput(
       "unknown command '" + command + "' (commands: fit, families; see foothold --help)", err);
 }
