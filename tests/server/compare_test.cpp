@@ -186,3 +186,25 @@ TEST_CASE("CompareCommand: the table names the winner and the F-test", "[server]
                              json, err) == foothold::kExitOk);
   CHECK(json.str().find("\"winner\": \"lorentzian\"") != std::string::npos);
 }
+
+TEST_CASE("CompareCommand: a fit stopped by its iteration limit exits 3 with the table",
+          "[server]") {
+  const std::string path = std::string(FOOTHOLD_BINARY_DIR) + "/compare_test_limit.csv";
+  {
+    Noise noise(9);
+    std::ofstream file(path);
+    file << "x,y\n";
+    for (int i = 0; i < kPoints; ++i) {
+      const double x = 10.0 * i / (kPoints - 1);
+      file << x << ',' << Gaussian(x) + kHeight / kSnr * noise.Next() << '\n';
+    }
+  }
+  std::ostringstream out;
+  std::ostringstream err;
+  const int code = foothold::RunCompare(
+      {path, "--families", "gaussian,lorentzian", "--starts", "1", "--max-iterations", "1"}, out,
+      err);
+  INFO(out.str() << err.str());
+  CHECK(code == foothold::kExitNotConverged);
+  CHECK(out.str().find("not_converged") != std::string::npos);
+}
