@@ -149,4 +149,41 @@ TEST_CASE("Daemon: SIGTERM during work exits 0 within the grace period; a restar
   CHECK(WaitAllDone(restarted.port(), ids, std::chrono::seconds(90)));
 }
 
+TEST_CASE("Daemon: DELETE stops a running fit at its next iteration and it ends cancelled",
+          "[server]") {
+  testing::Daemon daemon(testing::FreshStore("cancel"), {"--workers", "1"});
+  REQUIRE(daemon.port() > 0);
+  // An expression fit on many points: long enough to be caught running.
+  std::string x, y;
+  for (int i = 0; i < 5000; ++i) {
+    const double t = i * 0.01;
+    x += (i ? "," : "") + std::to_string(t);
+    y += (i ? "," : "") + std::to_string(3 * std::exp(-t / 7) + 0.5 * std::sin(9 * t) +
+                                         0.01 * std::sin(1234.5 * i));
+  }
+  const std::string body =
+      R"J({"model": {"expression": "a*exp(-x/t)+c*sin(w*x)", "parameters": ["a", "t", "c", "w"]},
+          "data": {"x": [)J" + x + "], \"y\": [" + y + "]}}";
+  const testing::HttpReply accepted =
+      Request(daemon.port(), "POST", "/v1/fits", body, "application/json");
+  REQUIRE(accepted.status == 202);
+  const std::string id = json::parse(accepted.body)["id"];
+  std::string state;
+  for (int i = 0; i < 400 && state != "running"; ++i) {
+    state = json::parse(Request(daemon.port(), "GET", "/v1/fits/" + id).body)["state"];
+    if (state != "running") std::this_thread::sleep_for(std::chrono::milliseconds(10));
+  }
+  REQUIRE(state == "running");
+  const testing::HttpReply cancel = Request(daemon.port(), "DELETE", "/v1/fits/" + id);
+  CHECK(cancel.status == 202);
+  const auto asked = std::chrono::steady_clock::now();
+  for (int i = 0; i < 400 && state == "running"; ++i) {
+    state = json::parse(Request(daemon.port(), "GET", "/v1/fits/" + id).body)["state"];
+    if (state == "running") std::this_thread::sleep_for(std::chrono::milliseconds(10));
+  }
+  CHECK(state == "cancelled");
+  CHECK(std::chrono::steady_clock::now() - asked < std::chrono::seconds(2));
+  CHECK(Request(daemon.port(), "DELETE", "/v1/fits/" + id).status == 409);
+}
+
 }  // namespace foothold
