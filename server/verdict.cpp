@@ -264,8 +264,18 @@ void AddExtrapolationFindings(const FitOutcome& outcome, const XRange& range,
 }
 
 // What the multistart search says about the answer's uniqueness.
-void AddAmbiguityFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
+void AddAmbiguityFindings(const FitOutcome& outcome, const VerdictOptions& options,
+                          std::vector<Finding>* findings) {
   if (!outcome.ambiguous_basins || outcome.basins.size() <= 1) return;
+  if (outcome.best_gap_chi2 < options.equivalent_gap_chi2) {
+    findings->push_back(
+        {"ambiguous_basins", "Two different parameter sets give the same curve (gap " +
+                                 Short(outcome.best_gap_chi2) +
+                                 " in chi-square units): the model has a symmetry, such as a sign "
+                                 "or an exchange of parameters; bound one parameter (a sign, an "
+                                 "order) so the answer is unique."});
+    return;
+  }
   findings->push_back(
       {"ambiguous_basins",
        "Another optimum fits almost as well (gap " + Short(outcome.best_gap_chi2) +
@@ -287,7 +297,7 @@ Verdict Judge(const FitOutcome& outcome, const XRange& range, const VerdictOptio
   AddConvergenceFindings(outcome, &findings);
   AddSizeFindings(outcome, options, &findings);
   AddIdentifiabilityFindings(outcome, options, &findings);
-  AddAmbiguityFindings(outcome, &findings);
+  AddAmbiguityFindings(outcome, options, &findings);
   AddBoundFindings(outcome, &findings);
   AddResidualFindings(outcome, options, &findings);
   AddChiSquareFindings(outcome, options, &findings);
@@ -333,6 +343,9 @@ bool VerdictOptions::Validate(std::string* error) const {
   }
   if (!(extrapolation_margin >= 0) || !std::isfinite(extrapolation_margin)) {
     return fail("extrapolation_margin", extrapolation_margin, "must be finite and >= 0");
+  }
+  if (!(equivalent_gap_chi2 >= 0) || !std::isfinite(equivalent_gap_chi2)) {
+    return fail("equivalent_gap_chi2", equivalent_gap_chi2, "must be finite and >= 0");
   }
   return true;
 }

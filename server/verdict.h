@@ -33,6 +33,10 @@ struct VerdictOptions {
   // A location parameter (center*, log_ec50, km, kd, the gompertz inflection) further than
   // this fraction of the x span outside [min x, max x] flags "extrapolated". Default 0. >= 0.
   double extrapolation_margin = 0;
+  // Two basins whose chi-square differs by less than this (chi-square units) are the same
+  // curve under two parameter sets, a symmetry of the model: the "ambiguous_basins" sentence
+  // then says to bound a parameter. Default 1e-6, far below any gap noise could make. >= 0.
+  double equivalent_gap_chi2 = 1e-6;
 
   bool Validate(std::string* error) const;
 };

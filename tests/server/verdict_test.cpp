@@ -146,7 +146,20 @@ TEST_CASE("Verdict: a sign the data cannot see gives ambiguous_basins", "[server
   request.start = {{"a", 1}, {"b", 0}};
   request.bounds = {{"a", -5, 5}, {"b", -5, 5}};
   request.starts = 16;
-  RequireOnly(Fit(request), "ambiguous_basins");
+  const FitOutcome outcome = Fit(request);
+  RequireOnly(outcome, "ambiguous_basins");
+  CHECK(outcome.verdict.summary.find("same curve") != std::string::npos);
+}
+
+TEST_CASE("Verdict: a real gap under one chi-square unit reads as two optima", "[server]") {
+  FitOutcome outcome = Fit(CleanGaussian());
+  REQUIRE(outcome.basins.size() >= 1);
+  outcome.basins.push_back(outcome.basins.front());
+  outcome.ambiguous_basins = true;
+  outcome.best_gap_chi2 = 0.4;
+  const foothold::Verdict verdict = foothold::JudgeFit(outcome);
+  CHECK(verdict.flags == std::vector<std::string>{"ambiguous_basins"});
+  CHECK(verdict.summary.find("Another optimum fits almost as well (gap 0.4") == 0);
 }
 
 TEST_CASE("Verdict: a bound that holds the optimum back gives at_bound", "[server]") {
