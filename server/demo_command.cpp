@@ -131,7 +131,10 @@ std::string KeyParameters(const Json& result) {
        it != result["best"]["parameters"].end() && shown < 3; ++it, ++shown) {
     out << (shown ? ", " : "") << it.key() << "=" << std::setprecision(4);
     const Json& p = it.value();
-    if (p["value"].is_number()) out << p["value"].get<double>(); else out << "?";
+    if (p["value"].is_number())
+      out << p["value"].get<double>();
+    else
+      out << "?";
     if (p.contains("stderr") && p["stderr"].is_number()) {
       out << "±" << std::setprecision(2) << p["stderr"].get<double>();
     }
@@ -177,8 +180,8 @@ int RunDemo(const std::vector<std::string>& args, std::ostream& out, std::ostrea
   posix_spawn_file_actions_adddup2(&actions, pipe_fds[1], 1);
   posix_spawn_file_actions_addclose(&actions, pipe_fds[0]);
   posix_spawn_file_actions_addopen(&actions, 2, log.c_str(), O_WRONLY | O_CREAT | O_APPEND, 0644);
-  std::vector<std::string> words = {"/proc/self/exe", "serve", "--port", "0", "--store", store,
-                                    "--workers", workers};
+  std::vector<std::string> words = {"/proc/self/exe", "serve", "--port",    "0",
+                                    "--store",        store,   "--workers", workers};
   std::vector<char*> argv;
   for (std::string& word : words) argv.push_back(&word[0]);
   argv.push_back(nullptr);
@@ -221,7 +224,8 @@ int RunDemo(const std::vector<std::string>& args, std::ostream& out, std::ostrea
   waitpid(pid, nullptr, 0);
 
   out << std::left << std::setw(26) << "dataset" << std::setw(13) << "model" << std::setw(64)
-      << "key parameters (± standard error)" << std::setw(8) << "basins" << "verdict\n";
+      << "key parameters (± standard error)" << std::setw(8) << "basins"
+      << "verdict\n";
   for (const DemoEntry& entry : entries) {
     const Json& job = entry.job;
     std::string params = "-", basins = "-", verdict = "not run";

@@ -219,8 +219,8 @@ bool DecodeBatchRequest(const std::string& text, std::vector<FitRequest>* reques
     FitRequest request;
     std::string decode_error;
     if (!DecodeFitRequest(merged, &request, &decode_error)) {
-      const bool names_data = decode_error.rfind("data", 0) == 0 ||
-                              decode_error.rfind("label", 0) == 0;
+      const bool names_data =
+          decode_error.rfind("data", 0) == 0 || decode_error.rfind("label", 0) == 0;
       *error = names_data ? where + "." + decode_error : decode_error;
       return false;
     }

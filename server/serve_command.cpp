@@ -1,9 +1,9 @@
 #include "server/serve_command.h"
 
+#include <atomic>
 #include <boost/asio/io_context.hpp>
 #include <boost/asio/signal_set.hpp>
 #include <boost/asio/steady_timer.hpp>
-#include <atomic>
 #include <chrono>
 #include <iostream>
 #include <thread>

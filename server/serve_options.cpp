@@ -37,31 +37,39 @@ std::string Show(double value) {
   return out.str();
 }
 
-#define INT_FLAG(NAME, FIELD, LOW, HIGH, HELP)                                          \
-  Flag {                                                                                \
-    NAME, HELP, [](const ServeOptions& o) { return std::to_string(o.FIELD); },          \
+#define INT_FLAG(NAME, FIELD, LOW, HIGH, HELP)                                               \
+  Flag {                                                                                     \
+    NAME, HELP, [](const ServeOptions& o) { return std::to_string(o.FIELD); },               \
         [](const std::string& v, ServeOptions* o) { return ToInt(v, LOW, HIGH, &o->FIELD); } \
   }
-#define DOUBLE_FLAG(NAME, FIELD, LOW, HELP)                                          \
-  Flag {                                                                             \
-    NAME, HELP, [](const ServeOptions& o) { return Show(o.FIELD); },                 \
+#define DOUBLE_FLAG(NAME, FIELD, LOW, HELP)                                               \
+  Flag {                                                                                  \
+    NAME, HELP, [](const ServeOptions& o) { return Show(o.FIELD); },                      \
         [](const std::string& v, ServeOptions* o) { return ToDouble(v, LOW, &o->FIELD); } \
   }
 
 const std::vector<Flag>& Flags() {
   static const std::vector<Flag> kFlags = {
-      {"listen", "address to listen on",
-       [](const ServeOptions& o) { return o.listen; },
-       [](const std::string& v, ServeOptions* o) { o->listen = v; return !v.empty(); }},
+      {"listen", "address to listen on", [](const ServeOptions& o) { return o.listen; },
+       [](const std::string& v, ServeOptions* o) {
+         o->listen = v;
+         return !v.empty();
+       }},
       INT_FLAG("port", port, 0, 65535, "TCP port; 0 picks a free one (printed at startup)"),
       {"store", "SQLite job store file (created when missing)",
        [](const ServeOptions& o) { return o.store; },
-       [](const std::string& v, ServeOptions* o) { o->store = v; return !v.empty(); }},
+       [](const std::string& v, ServeOptions* o) {
+         o->store = v;
+         return !v.empty();
+       }},
       INT_FLAG("workers", workers, 0, 1024, "fit worker threads; 0 means hardware threads"),
       INT_FLAG("io-threads", io_threads, 1, 64, "HTTP I/O threads"),
       {"token-file", "bearer tokens, one a line ('#' comments); empty: no authentication",
        [](const ServeOptions& o) { return o.token_file; },
-       [](const std::string& v, ServeOptions* o) { o->token_file = v; return true; }},
+       [](const std::string& v, ServeOptions* o) {
+         o->token_file = v;
+         return true;
+       }},
       {"log-format", "text or json (one JSON object a line)",
        [](const ServeOptions& o) { return o.log_format == LogFormat::kJson ? "json" : "text"; },
        [](const std::string& v, ServeOptions* o) {

@@ -20,11 +20,16 @@ constexpr double kHeight = 500;
 std::string Escape(const std::string& text) {
   std::string out;
   for (char c : text) {
-    if (c == '<') out += "&lt;";
-    else if (c == '>') out += "&gt;";
-    else if (c == '&') out += "&amp;";
-    else if (c == '"') out += "&quot;";
-    else out += c;
+    if (c == '<')
+      out += "&lt;";
+    else if (c == '>')
+      out += "&gt;";
+    else if (c == '&')
+      out += "&amp;";
+    else if (c == '"')
+      out += "&quot;";
+    else
+      out += c;
   }
   return out;
 }
@@ -83,8 +88,8 @@ std::string RenderFitSvg(const FitPlotData& data) {
   Range r = RangeOf(residuals);
   const double r_max = std::max(std::fabs(r.low), std::fabs(r.high));
   r = Range{-r_max, r_max};
-  out << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << kWidth << "\" height=\""
-      << kHeight << "\" viewBox=\"0 0 " << kWidth << ' ' << kHeight
+  out << "<svg xmlns=\"http://www.w3.org/2000/svg\" width=\"" << kWidth << "\" height=\"" << kHeight
+      << "\" viewBox=\"0 0 " << kWidth << ' ' << kHeight
       << "\" font-family=\"sans-serif\">\n<title>" << Escape(data.title) << "</title>\n";
   out << "<text x=\"" << kLeft << "\" y=\"24\" font-size=\"14\">" << Escape(data.title)
       << "</text>\n";
@@ -92,9 +97,8 @@ std::string RenderFitSvg(const FitPlotData& data) {
   Frame(out, kResidualTop, kResidualHeight, r, "resid");
   for (size_t i = 0; i < n; ++i) {
     if (!std::isfinite(data.x[i]) || !std::isfinite(data.y[i])) continue;
-    out << "<circle class=\"data\" cx=\"" << Map(data.x[i], x, kLeft, width, false)
-        << "\" cy=\"" << Map(data.y[i], y, kMainTop, kMainHeight, true)
-        << "\" r=\"2\" fill=\"#1f77b4\"/>\n";
+    out << "<circle class=\"data\" cx=\"" << Map(data.x[i], x, kLeft, width, false) << "\" cy=\""
+        << Map(data.y[i], y, kMainTop, kMainHeight, true) << "\" r=\"2\" fill=\"#1f77b4\"/>\n";
   }
   std::vector<size_t> order(n);
   std::iota(order.begin(), order.end(), 0);
@@ -107,8 +111,8 @@ std::string RenderFitSvg(const FitPlotData& data) {
   }
   out << "\"/>\n";
   const double zero = Map(0, r, kResidualTop, kResidualHeight, true);
-  out << "<line x1=\"" << kLeft << "\" y1=\"" << zero << "\" x2=\"" << kLeft + width
-      << "\" y2=\"" << zero << "\" stroke=\"#999\" stroke-dasharray=\"4 3\"/>\n";
+  out << "<line x1=\"" << kLeft << "\" y1=\"" << zero << "\" x2=\"" << kLeft + width << "\" y2=\""
+      << zero << "\" stroke=\"#999\" stroke-dasharray=\"4 3\"/>\n";
   for (size_t i = 0; i < n; ++i) {
     if (!std::isfinite(residuals[i])) continue;
     out << "<circle class=\"residual\" cx=\"" << Map(data.x[i], x, kLeft, width, false)

@@ -54,10 +54,9 @@ void Connection::DoRead() {
   parser_->header_limit(static_cast<std::uint32_t>(limits_.max_header_bytes));
   parser_->body_limit(static_cast<std::uint64_t>(limits_.max_body_bytes));
   stream_.expires_after(Seconds(limits_.header_timeout_seconds));
-  http::async_read_header(stream_, buffer_, *parser_,
-                          [self = shared_from_this()](beast::error_code error, size_t) {
-                            self->OnHeader(error);
-                          });
+  http::async_read_header(
+      stream_, buffer_, *parser_,
+      [self = shared_from_this()](beast::error_code error, size_t) { self->OnHeader(error); });
 }
 
 void Connection::OnHeader(beast::error_code error) {
@@ -69,9 +68,9 @@ void Connection::OnHeader(beast::error_code error) {
     return;
   }
   if (error == http::error::body_limit) {
-    RefuseRequest(413, "body-too-large", "Content Too Large",
-                  "the request body exceeds max_body_bytes = " +
-                      std::to_string(limits_.max_body_bytes));
+    RefuseRequest(
+        413, "body-too-large", "Content Too Large",
+        "the request body exceeds max_body_bytes = " + std::to_string(limits_.max_body_bytes));
     return;
   }
   if (error) {
@@ -95,9 +94,9 @@ void Connection::OnHeader(beast::error_code error) {
 
 void Connection::OnRead(beast::error_code error) {
   if (error == http::error::body_limit) {
-    RefuseRequest(413, "body-too-large", "Content Too Large",
-                  "the request body exceeds max_body_bytes = " +
-                      std::to_string(limits_.max_body_bytes));
+    RefuseRequest(
+        413, "body-too-large", "Content Too Large",
+        "the request body exceeds max_body_bytes = " + std::to_string(limits_.max_body_bytes));
     return;
   }
   if (error) {
@@ -159,9 +158,9 @@ void Connection::PollWait() {
 void Connection::DoWrite(HttpResponse response, const std::string& route,
                          const std::string& job_id) {
   const int status = static_cast<int>(response.result_int());
-  const double latency_ms = std::chrono::duration<double, std::milli>(
-                                std::chrono::steady_clock::now() - request_started_)
-                                .count();
+  const double latency_ms =
+      std::chrono::duration<double, std::milli>(std::chrono::steady_clock::now() - request_started_)
+          .count();
   if (metrics_) metrics_->CountRequest(std::string(request_.method_string()), route, status);
   if (log_) {
     log_->Request(std::string(request_.method_string()), std::string(request_.target()), status,
@@ -200,8 +199,8 @@ void Connection::RefuseRequest(int status, const std::string& slug, const std::s
   }
   request_.keep_alive(false);
   is_refusing_ = true;
-  DoWrite(MakeProblem(11, status, slug, title, detail, std::string(request_.target())),
-          "unread", "");
+  DoWrite(MakeProblem(11, status, slug, title, detail, std::string(request_.target())), "unread",
+          "");
 }
 
 // After refusing a request whose body was not read, half-close and read what the client

@@ -24,8 +24,8 @@ class ConnectionRegistry;
 class Connection : public std::enable_shared_from_this<Connection> {
  public:
   Connection(boost::asio::ip::tcp::socket socket, ConnectionRegistry* registry,
-             const Router* router, boost::asio::thread_pool* handlers,
-             const ServiceLimits& limits, Metrics* metrics, RequestLog* log);
+             const Router* router, boost::asio::thread_pool* handlers, const ServiceLimits& limits,
+             Metrics* metrics, RequestLog* log);
 
   void Start();
   // Closes the socket from any thread; pending operations end with an error.

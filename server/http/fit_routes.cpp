@@ -19,7 +19,7 @@ namespace {
 std::string Target(const HttpRequest& request) { return std::string(request.target()); }
 
 HttpResponse ProblemFor(const HttpRequest& request, int status, const std::string& slug,
-                     const std::string& title, const std::string& detail) {
+                        const std::string& title, const std::string& detail) {
   return MakeProblem(request.version(), status, slug, title, detail, Target(request));
 }
 
@@ -62,9 +62,9 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
   if (media == "application/json") {
     for (const auto& [name, value] : query) {
       *problem = ProblemFor(request, 400, "invalid-query", "Bad Request",
-                         "query parameter '" + name +
-                             "': a JSON body carries the whole request; model query parameters "
-                             "are for text/csv bodies");
+                            "query parameter '" + name +
+                                "': a JSON body carries the whole request; model query parameters "
+                                "are for text/csv bodies");
       return false;
     }
     std::string error;
@@ -74,8 +74,8 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
     }
     if (out->data.NumRows() == 0) {
       *problem = ProblemFor(request, 400, "invalid-request", "Bad Request",
-                         "data: required, an object of equal-length number arrays such as "
-                         "{\"x\": [...], \"y\": [...]}");
+                            "data: required, an object of equal-length number arrays such as "
+                            "{\"x\": [...], \"y\": [...]}");
       return false;
     }
     if (!out->model.IsFamily() && out->model.expression.empty()) {
@@ -97,19 +97,20 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
     const bool has_expr = query.count("expr") > 0;
     if (has_family == has_expr) {
       *problem = ProblemFor(request, 400, "invalid-query", "Bad Request",
-                         "query: a CSV body needs exactly one of family=<name> or "
-                         "expr=<expression> (with params=a,b,...)");
+                            "query: a CSV body needs exactly one of family=<name> or "
+                            "expr=<expression> (with params=a,b,...)");
       return false;
     }
     for (const auto& [name, value] : query) {
-      static const char* kKnown[] = {"family", "expr", "params", "peaks", "degree",
-                                     "label",  "starts", "seed", "response"};
+      static const char* kKnown[] = {"family", "expr",   "params", "peaks",   "degree",
+                                     "label",  "starts", "seed",   "response"};
       if (std::find_if(std::begin(kKnown), std::end(kKnown),
                        [&](const char* known) { return name == known; }) == std::end(kKnown)) {
-        *problem = ProblemFor(request, 400, "invalid-query", "Bad Request",
-                           "query parameter '" + name +
-                               "': unknown (expected family, expr, params, peaks, degree, label, "
-                               "starts, seed, response)");
+        *problem =
+            ProblemFor(request, 400, "invalid-query", "Bad Request",
+                       "query parameter '" + name +
+                           "': unknown (expected family, expr, params, peaks, degree, label, "
+                           "starts, seed, response)");
         return false;
       }
     }
@@ -126,8 +127,8 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
         out->model.peaks = value;
       } else {
         *problem = ProblemFor(request, 400, "invalid-query", "Bad Request",
-                           "query parameter 'peaks' = '" + query.at("peaks") +
-                               "': expected an integer >= 1 or 'auto'");
+                              "query parameter 'peaks' = '" + query.at("peaks") +
+                                  "': expected an integer >= 1 or 'auto'");
         return false;
       }
     }
@@ -135,8 +136,8 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
       if (!query.count(name)) continue;
       if (!ParseInt(query.at(name), 0, 1000000000, &value)) {
         *problem = ProblemFor(request, 400, "invalid-query", "Bad Request",
-                           std::string("query parameter '") + name + "' = '" + query.at(name) +
-                               "': expected a non-negative integer");
+                              std::string("query parameter '") + name + "' = '" + query.at(name) +
+                                  "': expected a non-negative integer");
         return false;
       }
       if (std::string(name) == "degree") out->model.degree = value;
@@ -147,9 +148,9 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
     return true;
   }
   *problem = ProblemFor(request, 415, "unsupported-media-type", "Unsupported Media Type",
-                     "Content-Type '" + std::string(request[http::field::content_type]) +
-                         "': expected application/json (a request document) or text/csv "
-                         "(data, with the model in query parameters)");
+                        "Content-Type '" + std::string(request[http::field::content_type]) +
+                            "': expected application/json (a request document) or text/csv "
+                            "(data, with the model in query parameters)");
   return false;
 }
 
@@ -181,9 +182,9 @@ bool Router::CheckFitRequest(const HttpRequest& request, const FitRequest& fit, 
   }
   const int num_parameters = prepared.model->NumParameters();
   if (num_parameters > limits.max_parameters) {
-    return refuse("model: " + std::to_string(num_parameters) +
-                  " parameters exceed the limit max_parameters = " +
-                  std::to_string(limits.max_parameters));
+    return refuse(
+        "model: " + std::to_string(num_parameters) +
+        " parameters exceed the limit max_parameters = " + std::to_string(limits.max_parameters));
   }
   return true;
 }
@@ -203,8 +204,8 @@ HttpResponse Router::SubmitFit(const HttpRequest& request, const Params& query,
     if (queue_full) {
       HttpResponse response =
           ProblemFor(request, 429, "queue-full", "Too Many Requests",
-                  "the job queue holds its limit of max_queue = " +
-                      std::to_string(context_.limits.max_queue) + " queued jobs; retry later");
+                     "the job queue holds its limit of max_queue = " +
+                         std::to_string(context_.limits.max_queue) + " queued jobs; retry later");
       response.set(http::field::retry_after, std::to_string(context_.limits.retry_after_seconds));
       return response;
     }
@@ -248,7 +249,7 @@ bool Router::LoadJob(const HttpRequest& request, const std::string& id, JobRecor
   }
   if (!found) {
     *problem = ProblemFor(request, 404, "job-not-found", "Not Found",
-                       "fit '" + id + "': no such job (it may have been purged)");
+                          "fit '" + id + "': no such job (it may have been purged)");
     return false;
   }
   return true;
@@ -261,9 +262,9 @@ HttpResponse Router::GetFit(const HttpRequest& request, const std::string& id,
   if (!LoadJob(request, id, &job, &problem)) return problem;
   if (part.empty()) return JsonResponse(request, 200, EncodeJob(job, true));
   if (job.result_json.empty()) {
-    return ProblemFor(request, 409, "not-finished", "Conflict",
-                   "fit '" + id + "' is " + ToString(job.state) + ": its " + part +
-                       " exist once it is done");
+    return ProblemFor(
+        request, 409, "not-finished", "Conflict",
+        "fit '" + id + "' is " + ToString(job.state) + ": its " + part + " exist once it is done");
   }
   Json body = Json::object();
   body["id"] = id;
@@ -271,15 +272,15 @@ HttpResponse Router::GetFit(const HttpRequest& request, const std::string& id,
   return JsonResponse(request, 200, body);
 }
 
-HttpResponse Router::PlotFit(const HttpRequest& request, const std::string& id,
-                             bool basins) const {
+HttpResponse Router::PlotFit(const HttpRequest& request, const std::string& id, bool basins) const {
   JobRecord job;
   HttpResponse problem;
   if (!LoadJob(request, id, &job, &problem)) return problem;
   if (job.result_json.empty()) {
     return ProblemFor(request, 409, "not-finished", "Conflict",
-                   "fit '" + id + "' is " + ToString(job.state) + ": its plot exists once it is "
-                   "done");
+                      "fit '" + id + "' is " + ToString(job.state) +
+                          ": its plot exists once it is "
+                          "done");
   }
   const std::string title = job.label.empty() ? "fit " + id : job.label;
   std::string svg;
@@ -353,7 +354,7 @@ HttpResponse Router::CancelFit(const HttpRequest& request, const std::string& id
   }
   if (IsFinished(previous)) {
     return ProblemFor(request, 409, "already-finished", "Conflict",
-                   "fit '" + id + "' is already " + ToString(previous) + "; nothing to cancel");
+                      "fit '" + id + "' is already " + ToString(previous) + "; nothing to cancel");
   }
   if (previous == JobState::kRunning && context_.workers) context_.workers->Cancel(id);
   JobRecord job;
@@ -368,8 +369,8 @@ HttpResponse Router::ListFits(const HttpRequest& request, const Params& query) c
     if (name == "state") {
       if (!JobStateFromString(value, &filter.state)) {
         return ProblemFor(request, 400, "invalid-query", "Bad Request",
-                       "query parameter 'state' = '" + value +
-                           "': expected queued, running, done, failed or cancelled");
+                          "query parameter 'state' = '" + value +
+                              "': expected queued, running, done, failed or cancelled");
       }
       filter.has_state = true;
     } else if (name == "label") {
@@ -377,26 +378,27 @@ HttpResponse Router::ListFits(const HttpRequest& request, const Params& query) c
     } else if (name == "created_since") {
       if (!ParseRfc3339(value, &filter.created_since_ms)) {
         return ProblemFor(request, 400, "invalid-query", "Bad Request",
-                       "query parameter 'created_since' = '" + value +
-                           "': expected an RFC 3339 time such as 2026-12-02T01:00:00Z");
+                          "query parameter 'created_since' = '" + value +
+                              "': expected an RFC 3339 time such as 2026-12-02T01:00:00Z");
       }
     } else if (name == "limit") {
       if (!ParseInt(value, 1, 500, &filter.limit)) {
-        return ProblemFor(request, 400, "invalid-query", "Bad Request",
-                       "query parameter 'limit' = '" + value + "': expected an integer in [1, 500]");
+        return ProblemFor(
+            request, 400, "invalid-query", "Bad Request",
+            "query parameter 'limit' = '" + value + "': expected an integer in [1, 500]");
       }
     } else if (name == "cursor") {
       int cursor = 0;
       if (!ParseInt(value, 1, 999999999, &cursor)) {
         return ProblemFor(request, 400, "invalid-query", "Bad Request",
-                       "query parameter 'cursor' = '" + value +
-                           "': expected the next_cursor of a previous page");
+                          "query parameter 'cursor' = '" + value +
+                              "': expected the next_cursor of a previous page");
       }
       filter.cursor = cursor;
     } else {
       return ProblemFor(request, 400, "invalid-query", "Bad Request",
-                     "query parameter '" + name +
-                         "': unknown (expected state, label, created_since, limit, cursor)");
+                        "query parameter '" + name +
+                            "': unknown (expected state, label, created_since, limit, cursor)");
     }
   }
   JobPage page;
@@ -413,8 +415,8 @@ HttpResponse Router::ListFits(const HttpRequest& request, const Params& query) c
 HttpResponse Router::SubmitBatch(const HttpRequest& request) const {
   if (MediaType(std::string(request[http::field::content_type])) != "application/json") {
     return ProblemFor(request, 415, "unsupported-media-type", "Unsupported Media Type",
-                   "Content-Type '" + std::string(request[http::field::content_type]) +
-                       "': a batch is an application/json document");
+                      "Content-Type '" + std::string(request[http::field::content_type]) +
+                          "': a batch is an application/json document");
   }
   std::vector<FitRequest> requests;
   std::vector<NewJob> jobs;
@@ -424,14 +426,13 @@ HttpResponse Router::SubmitBatch(const HttpRequest& request) const {
   }
   if (static_cast<int>(jobs.size()) > context_.limits.max_batch_jobs) {
     return ProblemFor(request, 422, "limit-exceeded", "Unprocessable Content",
-                   "datasets: " + std::to_string(jobs.size()) +
-                       " datasets exceed the limit max_batch_jobs = " +
-                       std::to_string(context_.limits.max_batch_jobs));
+                      "datasets: " + std::to_string(jobs.size()) +
+                          " datasets exceed the limit max_batch_jobs = " +
+                          std::to_string(context_.limits.max_batch_jobs));
   }
   HttpResponse problem;
   for (size_t i = 0; i < requests.size(); ++i) {
-    if (!CheckFitRequest(request, requests[i], "datasets[" + std::to_string(i) + "]: ",
-                         &problem)) {
+    if (!CheckFitRequest(request, requests[i], "datasets[" + std::to_string(i) + "]: ", &problem)) {
       return problem;
     }
   }
@@ -441,10 +442,11 @@ HttpResponse Router::SubmitBatch(const HttpRequest& request) const {
   if (!context_.store->InsertJobs(true, jobs, context_.limits.max_queue, &batch_id, &ids,
                                   &queue_full, &error)) {
     if (queue_full) {
-      HttpResponse response = ProblemFor(
-          request, 429, "queue-full", "Too Many Requests",
-          "the batch's " + std::to_string(jobs.size()) + " jobs do not fit in the queue (max_queue = " +
-              std::to_string(context_.limits.max_queue) + "); nothing was accepted");
+      HttpResponse response =
+          ProblemFor(request, 429, "queue-full", "Too Many Requests",
+                     "the batch's " + std::to_string(jobs.size()) +
+                         " jobs do not fit in the queue (max_queue = " +
+                         std::to_string(context_.limits.max_queue) + "); nothing was accepted");
       response.set(http::field::retry_after, std::to_string(context_.limits.retry_after_seconds));
       return response;
     }
@@ -466,7 +468,8 @@ HttpResponse Router::GetBatch(const HttpRequest& request, const std::string& id)
     return ProblemFor(request, 503, "store-unavailable", "Service Unavailable", error);
   }
   if (!found) {
-    return ProblemFor(request, 404, "batch-not-found", "Not Found", "batch '" + id + "': no such batch");
+    return ProblemFor(request, 404, "batch-not-found", "Not Found",
+                      "batch '" + id + "': no such batch");
   }
   return JsonResponse(request, 200, EncodeBatch(batch));
 }
@@ -477,10 +480,10 @@ HttpResponse Router::Guesses(const HttpRequest& request, const Params& query) co
   HttpResponse problem;
   if (!ReadFitRequest(request, query, &fit, &document, &problem)) return problem;
   if (fit.data.NumRows() > context_.limits.max_points) {
-    return ProblemFor(request, 422, "limit-exceeded", "Unprocessable Content",
-                   "data: " + std::to_string(fit.data.NumRows()) +
-                       " points exceed the limit max_points = " +
-                       std::to_string(context_.limits.max_points));
+    return ProblemFor(
+        request, 422, "limit-exceeded", "Unprocessable Content",
+        "data: " + std::to_string(fit.data.NumRows()) +
+            " points exceed the limit max_points = " + std::to_string(context_.limits.max_points));
   }
   PreparedFit prepared;
   std::string error;

@@ -49,33 +49,33 @@ bool HttpServer::Start(std::string* error) {
 }
 
 void HttpServer::DoAccept() {
-  acceptor_.async_accept(asio::make_strand(io_), [this](boost::system::error_code code,
-                                                        tcp::socket socket) {
-    if (code) {
-      if (acceptor_.is_open()) DoAccept();
-      return;
-    }
-    if (registry_.Count() >= limits_.max_connections) {
-      // Past the limit: a short answer, written while the kernel buffer certainly has room.
-      static const std::string kBody =
-          "{\"type\":\"https://foothold.dev/problems/too-many-connections\",\"title\":"
-          "\"Service Unavailable\",\"status\":503,\"detail\":\"max_connections reached\"}";
-      static const std::string kRefusal =
-          "HTTP/1.1 503 Service Unavailable\r\nContent-Type: application/problem+json\r\n"
-          "Retry-After: 1\r\nConnection: close\r\nContent-Length: " +
-          std::to_string(kBody.size()) + "\r\n\r\n" + kBody;
-      boost::system::error_code ignored;
-      asio::write(socket, asio::buffer(kRefusal), ignored);
-      socket.shutdown(tcp::socket::shutdown_both, ignored);
-      socket.close(ignored);
-    } else {
-      auto connection = std::make_shared<Connection>(std::move(socket), &registry_, router_,
-                                                     &handlers_, limits_, metrics_, log_);
-      registry_.Add(connection);
-      connection->Start();
-    }
-    DoAccept();
-  });
+  acceptor_.async_accept(
+      asio::make_strand(io_), [this](boost::system::error_code code, tcp::socket socket) {
+        if (code) {
+          if (acceptor_.is_open()) DoAccept();
+          return;
+        }
+        if (registry_.Count() >= limits_.max_connections) {
+          // Past the limit: a short answer, written while the kernel buffer certainly has room.
+          static const std::string kBody =
+              "{\"type\":\"https://foothold.dev/problems/too-many-connections\",\"title\":"
+              "\"Service Unavailable\",\"status\":503,\"detail\":\"max_connections reached\"}";
+          static const std::string kRefusal =
+              "HTTP/1.1 503 Service Unavailable\r\nContent-Type: application/problem+json\r\n"
+              "Retry-After: 1\r\nConnection: close\r\nContent-Length: " +
+              std::to_string(kBody.size()) + "\r\n\r\n" + kBody;
+          boost::system::error_code ignored;
+          asio::write(socket, asio::buffer(kRefusal), ignored);
+          socket.shutdown(tcp::socket::shutdown_both, ignored);
+          socket.close(ignored);
+        } else {
+          auto connection = std::make_shared<Connection>(std::move(socket), &registry_, router_,
+                                                         &handlers_, limits_, metrics_, log_);
+          registry_.Add(connection);
+          connection->Start();
+        }
+        DoAccept();
+      });
 }
 
 void HttpServer::StopAccepting() {

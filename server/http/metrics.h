@@ -23,7 +23,7 @@ class Metrics {
  public:
   // Upper bounds of the fit duration buckets, seconds.
   static constexpr std::array<double, 10> kFitBuckets = {0.01, 0.05, 0.1, 0.25, 0.5,
-                                                         1,    2.5,  5,   10,  30};
+                                                         1,    2.5,  5,   10,   30};
 
   void CountRequest(const std::string& method, const std::string& route, int status);
   void ObserveFit(const std::string& state, double seconds);

@@ -10,8 +10,8 @@
 namespace foothold {
 
 RequestLog::RequestLog(LogFormat format) : format_(format) {
-  logger_ = std::make_shared<spdlog::logger>(
-      "foothold", std::make_shared<spdlog::sinks::stderr_sink_mt>());
+  logger_ = std::make_shared<spdlog::logger>("foothold",
+                                             std::make_shared<spdlog::sinks::stderr_sink_mt>());
   // JSON lines carry their own fields; text lines get a time and level prefix.
   logger_->set_pattern(format == LogFormat::kJson ? "%v" : "%Y-%m-%dT%H:%M:%S.%eZ %l %v",
                        spdlog::pattern_time_type::utc);
@@ -21,8 +21,11 @@ RequestLog::RequestLog(LogFormat format) : format_(format) {
 void RequestLog::Request(const std::string& method, const std::string& target, int status,
                          double latency_ms, const std::string& job_id) {
   if (format_ == LogFormat::kJson) {
-    Json line = {{"event", "request"}, {"method", method}, {"target", target},
-                 {"status", status},   {"latency_ms", latency_ms}};
+    Json line = {{"event", "request"},
+                 {"method", method},
+                 {"target", target},
+                 {"status", status},
+                 {"latency_ms", latency_ms}};
     if (!job_id.empty()) line["job"] = job_id;
     logger_->info(line.dump(-1, ' ', false, Json::error_handler_t::replace));
     return;
@@ -36,7 +39,10 @@ void RequestLog::Request(const std::string& method, const std::string& target, i
 void RequestLog::Job(const std::string& job_id, const std::string& state, double seconds,
                      const std::string& brief) {
   if (format_ == LogFormat::kJson) {
-    Json line = {{"event", "job"}, {"job", job_id}, {"state", state}, {"seconds", seconds},
+    Json line = {{"event", "job"},
+                 {"job", job_id},
+                 {"state", state},
+                 {"seconds", seconds},
                  {"report", brief}};
     logger_->info(line.dump(-1, ' ', false, Json::error_handler_t::replace));
     return;

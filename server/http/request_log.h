@@ -17,8 +17,8 @@ class RequestLog {
  public:
   explicit RequestLog(LogFormat format);
 
-  void Request(const std::string& method, const std::string& target, int status,
-               double latency_ms, const std::string& job_id);
+  void Request(const std::string& method, const std::string& target, int status, double latency_ms,
+               const std::string& job_id);
   void Job(const std::string& job_id, const std::string& state, double seconds,
            const std::string& brief);
   void Info(const std::string& message);

@@ -88,8 +88,9 @@ RouteReply Router::Handle(const HttpRequest& request) const {
   }
   if (!matched) {
     reply.route = "unmatched";
-    reply.response = MakeProblem(request.version(), 404, "not-found", "Not Found",
-                                 "no resource at '" + path + "' (see GET / or docs/api.md)", target);
+    reply.response =
+        MakeProblem(request.version(), 404, "not-found", "Not Found",
+                    "no resource at '" + path + "' (see GET / or docs/api.md)", target);
     return reply;
   }
   reply.route = matched->path_template;
@@ -103,8 +104,7 @@ RouteReply Router::Handle(const HttpRequest& request) const {
   }
   if (method == "HEAD" && !allowed) allowed = false;
   if (!allowed) {
-    reply.response = MakeProblem(request.version(), 405, "method-not-allowed",
-                                 "Method Not Allowed",
+    reply.response = MakeProblem(request.version(), 405, "method-not-allowed", "Method Not Allowed",
                                  "method " + method + " is not allowed on " +
                                      matched->path_template + " (allowed: " + allow + ")",
                                  target);
@@ -115,11 +115,11 @@ RouteReply Router::Handle(const HttpRequest& request) const {
   if (needs_token && context_.auth && context_.auth->IsEnabled() &&
       !context_.auth->IsAuthorized(std::string(request[http::field::authorization]))) {
     const bool presented = request.find(http::field::authorization) != request.end();
-    reply.response = MakeProblem(
-        request.version(), 401, "unauthorized", "Unauthorized",
-        presented ? "the bearer token is not valid"
-                  : "this resource needs an Authorization: Bearer <token> header",
-        target);
+    reply.response =
+        MakeProblem(request.version(), 401, "unauthorized", "Unauthorized",
+                    presented ? "the bearer token is not valid"
+                              : "this resource needs an Authorization: Bearer <token> header",
+                    target);
     reply.response.set(http::field::www_authenticate,
                        presented ? "Bearer realm=\"foothold\", error=\"invalid_token\""
                                  : "Bearer realm=\"foothold\"");
@@ -128,8 +128,8 @@ RouteReply Router::Handle(const HttpRequest& request) const {
   Params query;
   std::string query_error;
   if (!ParseQuery(query_text, &query, &query_error)) {
-    reply.response = MakeProblem(request.version(), 400, "invalid-query", "Bad Request",
-                                 query_error, target);
+    reply.response =
+        MakeProblem(request.version(), 400, "invalid-query", "Bad Request", query_error, target);
     return reply;
   }
   reply.response = Dispatch(request, reply.route, path_params, query, &reply);
@@ -145,7 +145,8 @@ HttpResponse Router::Dispatch(const HttpRequest& request, const std::string& rou
   if (route == "/readyz") return Ready(request);
   if (route == "/metrics") return MetricsText(request);
   if (route == "/v1/families") return Families(request);
-  if (route == "/v1/fits") return is_post ? SubmitFit(request, query, reply) : ListFits(request, query);
+  if (route == "/v1/fits")
+    return is_post ? SubmitFit(request, query, reply) : ListFits(request, query);
   if (route == "/v1/fits/{id}") {
     return request.method() == http::verb::delete_ ? CancelFit(request, id)
                                                    : GetFit(request, id, "");
@@ -161,9 +162,12 @@ HttpResponse Router::Dispatch(const HttpRequest& request, const std::string& rou
 
 HttpResponse Router::Ready(const HttpRequest& request) const {
   std::string why;
-  if (context_.is_shutting_down && context_.is_shutting_down()) why = "shutting down";
-  else if (!context_.store->IsReachable()) why = "the job store does not answer";
-  else if (context_.workers && !context_.workers->IsRunning()) why = "the workers are not running";
+  if (context_.is_shutting_down && context_.is_shutting_down())
+    why = "shutting down";
+  else if (!context_.store->IsReachable())
+    why = "the job store does not answer";
+  else if (context_.workers && !context_.workers->IsRunning())
+    why = "the workers are not running";
   if (!why.empty()) {
     return MakeProblem(request.version(), 503, "not-ready", "Service Unavailable", why,
                        std::string(request.target()));

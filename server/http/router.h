@@ -68,8 +68,8 @@ class Router {
   HttpResponse Families(const HttpRequest& request) const;
   HttpResponse SubmitFit(const HttpRequest& request, const Params& query, RouteReply* reply) const;
   HttpResponse ListFits(const HttpRequest& request, const Params& query) const;
-  HttpResponse GetFit(const HttpRequest& request, const std::string& id, const std::string& part)
-      const;
+  HttpResponse GetFit(const HttpRequest& request, const std::string& id,
+                      const std::string& part) const;
   HttpResponse PlotFit(const HttpRequest& request, const std::string& id, bool basins) const;
   HttpResponse CancelFit(const HttpRequest& request, const std::string& id) const;
   HttpResponse SubmitBatch(const HttpRequest& request) const;

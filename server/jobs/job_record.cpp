@@ -6,11 +6,16 @@ namespace foothold {
 
 const char* ToString(JobState state) {
   switch (state) {
-    case JobState::kQueued: return "queued";
-    case JobState::kRunning: return "running";
-    case JobState::kDone: return "done";
-    case JobState::kFailed: return "failed";
-    case JobState::kCancelled: return "cancelled";
+    case JobState::kQueued:
+      return "queued";
+    case JobState::kRunning:
+      return "running";
+    case JobState::kDone:
+      return "done";
+    case JobState::kFailed:
+      return "failed";
+    case JobState::kCancelled:
+      return "cancelled";
   }
   return "queued";
 }

@@ -30,8 +30,8 @@ struct JobRecord {
   std::string batch_id;  // empty for a single fit
   std::string label;
   JobState state = JobState::kQueued;
-  std::int64_t created_ms = 0;  // Unix epoch milliseconds
-  std::int64_t started_ms = 0;  // 0 until claimed
+  std::int64_t created_ms = 0;   // Unix epoch milliseconds
+  std::int64_t started_ms = 0;   // 0 until claimed
   std::int64_t finished_ms = 0;  // 0 until finished
   std::string request_json;
   std::string result_json;  // empty until done
@@ -57,7 +57,7 @@ struct BatchRecord {
 struct JobFilter {
   bool has_state = false;
   JobState state = JobState::kQueued;
-  std::string label;              // exact match when not empty
+  std::string label;                  // exact match when not empty
   std::int64_t created_since_ms = 0;  // inclusive; 0 means no filter
   int limit = 50;
   std::int64_t cursor = 0;  // 0 = from the newest; else the sequence number to continue below

@@ -16,11 +16,11 @@ class JobStore {
   virtual ~JobStore() = default;
 
   // Commits all jobs in one transaction (a batch when batch_id is not empty) and fills
-  // their ids in order; as_batch also records a batch and returns its id. Refuses (returns false, *queue_full true) when the queued count
-  // would exceed max_queued.
+  // their ids in order; as_batch also records a batch and returns its id. Refuses (returns false,
+  // *queue_full true) when the queued count would exceed max_queued.
   virtual bool InsertJobs(bool as_batch, const std::vector<NewJob>& jobs, int max_queued,
-                          std::string* batch_id, std::vector<std::string>* ids,
-                          bool* queue_full, std::string* error) = 0;
+                          std::string* batch_id, std::vector<std::string>* ids, bool* queue_full,
+                          std::string* error) = 0;
   // Moves the oldest queued job to running for `worker`; *found false when none is queued.
   virtual bool ClaimNextJob(const std::string& worker, JobRecord* out, bool* found,
                             std::string* error) = 0;

@@ -107,11 +107,10 @@ JobRecord ReadJob(Statement& row, std::int64_t* seq, bool with_documents) {
 
 }  // namespace
 
-std::unique_ptr<SqliteJobStore> SqliteJobStore::Open(const std::string& path,
-                                                     std::string* error) {
+std::unique_ptr<SqliteJobStore> SqliteJobStore::Open(const std::string& path, std::string* error) {
   sqlite3* db = nullptr;
-  if (sqlite3_open_v2(path.c_str(), &db, SQLITE_OPEN_READWRITE | SQLITE_OPEN_CREATE |
-                                             SQLITE_OPEN_FULLMUTEX,
+  if (sqlite3_open_v2(path.c_str(), &db,
+                      SQLITE_OPEN_READWRITE | SQLITE_OPEN_CREATE | SQLITE_OPEN_FULLMUTEX,
                       nullptr) != SQLITE_OK) {
     *error = "store '" + path + "': " + (db ? sqlite3_errmsg(db) : "cannot open");
     sqlite3_close(db);
@@ -126,8 +125,8 @@ std::unique_ptr<SqliteJobStore> SqliteJobStore::Open(const std::string& path,
     return nullptr;
   }
   std::random_device device;
-  store->id_state_ = (static_cast<std::uint64_t>(device()) << 32) ^ device() ^
-                     static_cast<std::uint64_t>(NowMs());
+  store->id_state_ =
+      (static_cast<std::uint64_t>(device()) << 32) ^ device() ^ static_cast<std::uint64_t>(NowMs());
   return store;
 }
 
@@ -354,8 +353,8 @@ bool SqliteJobStore::GetBatch(const std::string& id, BatchRecord* out, bool* fou
   out->id = id;
   out->created_ms = batch.Int(0);
   out->jobs.clear();
-  Statement read(db_,
-                 std::string("SELECT ") + kJobColumns + " FROM jobs WHERE batch_id = ? ORDER BY seq");
+  Statement read(
+      db_, std::string("SELECT ") + kJobColumns + " FROM jobs WHERE batch_id = ? ORDER BY seq");
   if (!read.ok(error)) return false;
   read.Bind(1, id);
   std::int64_t seq = 0;

@@ -33,8 +33,7 @@ class SqliteJobStore : public JobStore {
                  std::string* error) override;
   bool GetJob(const std::string& id, JobRecord* out, bool* found, std::string* error) override;
   bool ListJobs(const JobFilter& filter, JobPage* out, std::string* error) override;
-  bool GetBatch(const std::string& id, BatchRecord* out, bool* found,
-                std::string* error) override;
+  bool GetBatch(const std::string& id, BatchRecord* out, bool* found, std::string* error) override;
   bool RequeueAllRunning(int* count, std::string* error) override;
   bool PurgeFinishedBefore(std::int64_t before_ms, int* count, std::string* error) override;
   bool CountByState(std::map<JobState, int>* counts, std::string* error) override;

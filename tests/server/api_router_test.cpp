@@ -66,15 +66,14 @@ TEST_CASE("Router: bearer tokens guard the API, health endpoints stay open", "[s
   CHECK(closed.Handle(MakeRequest(http::verb::get, "/metrics")).response.result_int() == 401);
 }
 
-TEST_CASE("Router: a submitted fit is committed before the 202 and reported queued",
-          "[server]") {
+TEST_CASE("Router: a submitted fit is committed before the 202 and reported queued", "[server]") {
   auto store = FreshStore("submit");
   RouterContext context;
   context.store = store.get();
   const Router router(context);
-  const RouteReply reply = router.Handle(MakeRequest(
-      http::verb::post, "/v1/fits",
-      R"({"model": {"family": "line"}, "data": {"x": [1, 2, 3], "y": [2, 4, 6.5]}})"));
+  const RouteReply reply = router.Handle(
+      MakeRequest(http::verb::post, "/v1/fits",
+                  R"({"model": {"family": "line"}, "data": {"x": [1, 2, 3], "y": [2, 4, 6.5]}})"));
   REQUIRE(reply.response.result_int() == 202);
   CHECK(reply.route == "/v1/fits");
   const auto body = nlohmann::json::parse(reply.response.body());
@@ -128,7 +127,8 @@ TEST_CASE("Router: every route and method it serves is documented in docs/openap
         break;
       ++end;
     }
-    const std::string block = spec.substr(at, end == std::string::npos ? std::string::npos : end - at);
+    const std::string block =
+        spec.substr(at, end == std::string::npos ? std::string::npos : end - at);
     for (std::string method : route.methods) {
       for (char& c : method) c = static_cast<char>(std::tolower(static_cast<unsigned char>(c)));
       INFO("method " << method);

@@ -20,9 +20,9 @@ constexpr const char* kLineFit =
         "data": {"x": [1, 2, 3, 4, 5, 6], "y": [2.1, 3.9, 6.2, 7.8, 10.1, 12.2]}})";
 
 testing::Daemon& SharedDaemon() {
-  static testing::Daemon daemon(testing::FreshStore("api"),
-                                {"--workers", "2", "--max-points", "50", "--max-body-bytes",
-                                 "20000", "--max-starts", "64"});
+  static testing::Daemon daemon(
+      testing::FreshStore("api"),
+      {"--workers", "2", "--max-points", "50", "--max-body-bytes", "20000", "--max-starts", "64"});
   return daemon;
 }
 
@@ -47,8 +47,8 @@ void StripTimings(json* value) {
 }
 
 std::string RunCliJson(const std::string& request_path) {
-  const std::string command = std::string(FOOTHOLD_BINARY_DIR) +
-                              "/server/foothold fit --request " + request_path + " --json";
+  const std::string command = std::string(FOOTHOLD_BINARY_DIR) + "/server/foothold fit --request " +
+                              request_path + " --json";
   FILE* pipe = popen(command.c_str(), "r");
   REQUIRE(pipe);
   std::string output;
@@ -61,8 +61,7 @@ std::string RunCliJson(const std::string& request_path) {
 
 }  // namespace
 
-TEST_CASE("Daemon: a fit posted with Prefer wait returns the CLI's result document",
-          "[server]") {
+TEST_CASE("Daemon: a fit posted with Prefer wait returns the CLI's result document", "[server]") {
   testing::Daemon& daemon = SharedDaemon();
   REQUIRE(daemon.port() > 0);
   const testing::HttpReply reply = Request(daemon.port(), "POST", "/v1/fits", kLineFit,
@@ -125,16 +124,15 @@ TEST_CASE("Daemon: job resources, listing, batches, guesses, plots and service e
   const testing::HttpReply csv_fit = Request(port, "POST", "/v1/fits?family=line&label=csv", csv,
                                              "text/csv", {{"Prefer", "wait=30"}});
   CHECK(csv_fit.status == 200);
-  const testing::HttpReply expr_fit =
-      Request(port, "POST", "/v1/fits?expr=a*x%2Bb&params=a,b", csv, "text/csv",
-              {{"Prefer", "wait=30"}});
+  const testing::HttpReply expr_fit = Request(port, "POST", "/v1/fits?expr=a*x%2Bb&params=a,b", csv,
+                                              "text/csv", {{"Prefer", "wait=30"}});
   CHECK(expr_fit.status == 200);
 
   const std::string batch_body = R"({"model": {"family": "line"}, "datasets": [
       {"label": "b0", "data": {"x": [1, 2, 3], "y": [1, 2, 3.1]}},
       {"label": "b1", "data": {"x": [1, 2, 3], "y": [2, 4, 6.1]}}]})";
-  const testing::HttpReply batch = Request(port, "POST", "/v1/batches", batch_body,
-                                           "application/json");
+  const testing::HttpReply batch =
+      Request(port, "POST", "/v1/batches", batch_body, "application/json");
   REQUIRE(batch.status == 202);
   const json batch_json = json::parse(batch.body);
   CHECK(batch_json["jobs"].size() == 2);
@@ -143,10 +141,10 @@ TEST_CASE("Daemon: job resources, listing, batches, guesses, plots and service e
   CHECK(aggregate["total"] == 2);
   CHECK(aggregate["jobs"][1]["label"] == "b1");
 
-  const testing::HttpReply guesses = Request(
-      port, "POST", "/v1/guesses",
-      R"({"model": {"family": "line"}, "data": {"x": [1, 2, 3], "y": [1, 2, 3]}})",
-      "application/json");
+  const testing::HttpReply guesses =
+      Request(port, "POST", "/v1/guesses",
+              R"({"model": {"family": "line"}, "data": {"x": [1, 2, 3], "y": [1, 2, 3]}})",
+              "application/json");
   REQUIRE(guesses.status == 200);
   CHECK(json::parse(guesses.body)["start"].contains("slope"));
 
@@ -189,8 +187,9 @@ TEST_CASE("Daemon: every bad request is a 4xx problem document and the daemon st
       {"POST", "/v1/fits", "{" + xy + "}", json_type, 400, "model"},
       {"POST", "/v1/fits", R"({"model": "line", )" + xy + "}", json_type, 400, "model"},
       {"POST", "/v1/fits", R"({"model": {"family": 3}, )" + xy + "}", json_type, 400, "family"},
-      {"POST", "/v1/fits", R"({"model": {"family": "line"}, "data": {"x": [1, 2], "y": [1, "NaN"]}})",
-       json_type, 400, "data.y[1]"},
+      {"POST", "/v1/fits",
+       R"({"model": {"family": "line"}, "data": {"x": [1, 2], "y": [1, "NaN"]}})", json_type, 400,
+       "data.y[1]"},
       {"POST", "/v1/fits", R"({"model": {"family": "line"}, "data": {"x": [1, 2], "y": [1]}})",
        json_type, 400, ""},
       {"POST", "/v1/fits", R"({"model": {"family": "line"}, "data": {"x": "1,2", "y": [1, 2]}})",
@@ -266,7 +265,8 @@ TEST_CASE("Daemon: every bad request is a 4xx problem document and the daemon st
   REQUIRE(cases.size() >= 40);
   for (size_t i = 0; i < cases.size(); ++i) {
     const Bad& bad = cases[i];
-    INFO("case " << i << ": " << bad.method << ' ' << bad.target << " body " << bad.body.substr(0, 80));
+    INFO("case " << i << ": " << bad.method << ' ' << bad.target << " body "
+                 << bad.body.substr(0, 80));
     const testing::HttpReply reply =
         Request(port, bad.method, bad.target, bad.body, bad.content_type);
     CHECK(reply.status == bad.status);

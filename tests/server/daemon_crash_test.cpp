@@ -23,14 +23,13 @@ std::string Variant(int variant) {
   std::string x, y;
   for (int i = 0; i < 40; ++i) {
     const double t = i * 0.25;
-    const double value = (2 + variant) * std::exp(-t / (1.0 + 0.3 * variant)) + 0.1 +
-                         0.01 * std::cos(7.0 * i);
+    const double value =
+        (2 + variant) * std::exp(-t / (1.0 + 0.3 * variant)) + 0.1 + 0.01 * std::cos(7.0 * i);
     x += (i ? "," : "") + std::to_string(t);
     y += (i ? "," : "") + std::to_string(value);
   }
   return R"({"label": "v)" + std::to_string(variant) +
-         R"(", "model": {"family": "exp_decay"}, "data": {"x": [)" + x + "], \"y\": [" + y +
-         "]}}";
+         R"(", "model": {"family": "exp_decay"}, "data": {"x": [)" + x + "], \"y\": [" + y + "]}}";
 }
 
 void StripTimings(json* value) {
@@ -52,8 +51,7 @@ void StripTimings(json* value) {
 
 }  // namespace
 
-TEST_CASE("Daemon: kill -9 mid-run loses no job and reruns give the clean results",
-          "[server]") {
+TEST_CASE("Daemon: kill -9 mid-run loses no job and reruns give the clean results", "[server]") {
   // Clean results, one per variant, from a daemon that is never disturbed.
   std::map<int, json> clean;
   {
@@ -74,8 +72,8 @@ TEST_CASE("Daemon: kill -9 mid-run loses no job and reruns give the clean result
     testing::Daemon daemon(store, {"--workers", "2"});
     REQUIRE(daemon.port() > 0);
     for (int i = 0; i < kNumJobs; ++i) {
-      const testing::HttpReply reply = Request(daemon.port(), "POST", "/v1/fits",
-                                               Variant(i % kNumVariants), "application/json");
+      const testing::HttpReply reply =
+          Request(daemon.port(), "POST", "/v1/fits", Variant(i % kNumVariants), "application/json");
       REQUIRE(reply.status == 202);
       variant_of[json::parse(reply.body)["id"]] = i % kNumVariants;
     }
@@ -104,7 +102,8 @@ TEST_CASE("Daemon: kill -9 mid-run loses no job and reruns give the clean result
       if (job["state"] == "done") results[id] = job["result"];
       CHECK(job["state"] != "failed");
     }
-    if (results.size() < variant_of.size()) std::this_thread::sleep_for(std::chrono::milliseconds(50));
+    if (results.size() < variant_of.size())
+      std::this_thread::sleep_for(std::chrono::milliseconds(50));
   }
   REQUIRE(results.size() == variant_of.size());
   for (auto& [id, result] : results) {

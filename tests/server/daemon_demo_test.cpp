@@ -6,8 +6,8 @@
 
 TEST_CASE("Demo: every manifest dataset is fitted through a temporary daemon", "[server]") {
   const std::string examples = std::string(FOOTHOLD_SOURCE_DIR) + "/docs/examples";
-  const std::string command = std::string(FOOTHOLD_BINARY_DIR) + "/server/foothold demo --examples " +
-                              examples + " 2>/dev/null";
+  const std::string command = std::string(FOOTHOLD_BINARY_DIR) +
+                              "/server/foothold demo --examples " + examples + " 2>/dev/null";
   FILE* pipe = popen(command.c_str(), "r");
   REQUIRE(pipe);
   std::string output;

@@ -61,9 +61,9 @@ TEST_CASE("Daemon: 401 without or with a wrong token, 2xx with it", "[server]") 
   CHECK(none.content_type == "application/problem+json");
   CHECK(Request(daemon.port(), "GET", "/v1/fits", "", "", {{"Authorization", "Bearer nope"}})
             .status == 401);
-  CHECK(Request(daemon.port(), "GET", "/v1/fits", "", "",
-                {{"Authorization", "Bearer second-token"}})
-            .status == 200);
+  CHECK(
+      Request(daemon.port(), "GET", "/v1/fits", "", "", {{"Authorization", "Bearer second-token"}})
+          .status == 200);
   CHECK(Request(daemon.port(), "GET", "/healthz").status == 200);
 }
 
@@ -158,12 +158,13 @@ TEST_CASE("Daemon: DELETE stops a running fit at its next iteration and it ends 
   for (int i = 0; i < 5000; ++i) {
     const double t = i * 0.01;
     x += (i ? "," : "") + std::to_string(t);
-    y += (i ? "," : "") + std::to_string(3 * std::exp(-t / 7) + 0.5 * std::sin(9 * t) +
-                                         0.01 * std::sin(1234.5 * i));
+    y += (i ? "," : "") +
+         std::to_string(3 * std::exp(-t / 7) + 0.5 * std::sin(9 * t) + 0.01 * std::sin(1234.5 * i));
   }
   const std::string body =
       R"J({"model": {"expression": "a*exp(-x/t)+c*sin(w*x)", "parameters": ["a", "t", "c", "w"]},
-          "data": {"x": [)J" + x + "], \"y\": [" + y + "]}}";
+          "data": {"x": [)J" +
+      x + "], \"y\": [" + y + "]}}";
   const testing::HttpReply accepted =
       Request(daemon.port(), "POST", "/v1/fits", body, "application/json");
   REQUIRE(accepted.status == 202);

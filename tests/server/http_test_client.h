@@ -75,8 +75,8 @@ class Daemon {
       const std::string log = store + ".log";
       FILE* err = std::fopen(log.c_str(), "a");
       if (err) dup2(fileno(err), 2);
-      std::vector<std::string> args = {FOOTHOLD_BINARY_DIR "/server/foothold", "serve", "--port",
-                                       "0", "--store", store};
+      std::vector<std::string> args = {
+          FOOTHOLD_BINARY_DIR "/server/foothold", "serve", "--port", "0", "--store", store};
       args.insert(args.end(), extra_args.begin(), extra_args.end());
       std::vector<char*> argv;
       for (std::string& arg : args) argv.push_back(&arg[0]);

@@ -80,8 +80,7 @@ TEST_CASE("SqliteJobStore: a result is written once and a finished job is not fi
   CHECK_FALSE(found);
 }
 
-TEST_CASE("SqliteJobStore: the queue limit refuses a whole batch and commits nothing",
-          "[server]") {
+TEST_CASE("SqliteJobStore: the queue limit refuses a whole batch and commits nothing", "[server]") {
   std::string error;
   auto store = SqliteJobStore::Open(TempStorePath("full"), &error);
   REQUIRE(store);
