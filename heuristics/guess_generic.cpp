@@ -9,12 +9,14 @@
 #include <limits>
 #include <map>
 #include <memory>
+#include <set>
 #include <sstream>
 
 #include "engine/solve/local_fit.h"
 #include "engine/solve/variable_projection.h"
 #include "heuristics/guess.h"
 #include "heuristics/internal/generic_design.h"
+#include "heuristics/internal/generic_locations.h"
 
 namespace foothold {
 namespace {
@@ -34,6 +36,21 @@ constexpr int kPolishIterations = 40;
 constexpr double kDuplicateTolerance = 1e-6;
 // A positive bounded parameter whose range spans more than this ratio is log-scaled.
 constexpr double kLogSpanRatio = 100;
+// Peak-seeded design: best points probed for location parameters, peak positions used,
+// assignments of positions to locations tried, design points per assignment, and the
+// evaluations the sweeps of the seeded points may spend together.
+constexpr int kNumLocationProbes = 8;
+constexpr int kMaxSeedCenters = 5;
+constexpr int kMaxAssignments = 24;
+constexpr int kSeededDesignBudget = 128;
+constexpr int kSeededSweepBudget = 8192;
+// Rounds of the peak-seeded design, and the best seeded points whose residual peaks feed the
+// next round.
+constexpr int kNumSeedRounds = 3;
+constexpr int kNumResidualProbes = 2;
+// Width levels added per peak, as shares of its FWHM: a gaussian's sigma (1 / (2 sqrt(2 ln 2)))
+// and the w of exp(-(x-c)^2/w^2) (1 / (2 sqrt(ln 2))).
+constexpr double kWidthsPerFwhm[] = {0.42466, 0.60056};
 
 bool Fail(std::string* error, const std::string& message) {
   if (error != nullptr) *error = message;
@@ -169,7 +186,8 @@ struct Scored {
   std::vector<int> index;  // level index per sampled parameter
   Eigen::VectorXd theta;
   double rss = kInf;
-  bool is_sweep = false;  // found by the coordinate sweeps
+  bool is_sweep = false;   // found by the coordinate sweeps
+  bool is_seeded = false;  // from the peak-seeded design (locations at peak positions)
 };
 
 // Cyclic coordinate search on the level grid (each sweep tries every level of each sampled
@@ -197,6 +215,121 @@ Scored Sweep(Scored point, const std::vector<std::vector<double>>& levels,
   }
   point.is_sweep = true;
   return point;
+}
+
+// The peak-seeded design (docs/generic-guesser.md, step 4). Parameters that behave as
+// locations along x are placed at the peak positions of the data and of the best point's
+// residuals, in every assignment; the other sampled parameters take a small design of their
+// levels, to which the peak widths are added (as gaussian sigma and as the w of
+// exp(-(x-c)^2/w^2)); the best point of each assignment is swept over all levels. The
+// residuals of the best seeded points then reveal peaks the first positions hid (an
+// overlapped shoulder), and the assignments that use them are tried in a further round. A
+// peak on a baseline is found where it is, not only where the coarse design puts a center.
+std::vector<Scored> SeedLocations(const Problem& problem, const std::vector<Scored>& best,
+                                  const std::vector<std::vector<double>>& base_levels,
+                                  SampleEvaluator* evaluator) {
+  const std::vector<int>& sampled = evaluator->Sampled();
+  std::vector<Eigen::VectorXd> probes;
+  for (size_t k = 0; k < best.size() && static_cast<int>(probes.size()) < kNumLocationProbes; ++k) {
+    Eigen::VectorXd full;
+    if (evaluator->Full(best[k].theta, &full)) probes.push_back(full);
+  }
+  if (probes.empty()) return {};
+  const std::vector<int> locations = generic::FindLocationParameters(
+      *problem.model, problem.data, sampled, evaluator->Solved(), probes);
+  if (locations.empty()) return {};
+  const Eigen::VectorXd& y = problem.data.response;
+  auto add_residual_peaks = [&](const Eigen::VectorXd& full,
+                                std::vector<generic::SeedPeak>* peaks) {
+    Eigen::VectorXd fitted(problem.data.NumPoints());
+    fitted.setConstant(std::numeric_limits<double>::quiet_NaN());
+    problem.model->Evaluate(problem.data.predictors, full.data(), fitted.data());
+    if (!fitted.allFinite()) return 0;
+    return generic::AddPeakCenters(problem.data, y - fitted, kMaxSeedCenters, peaks);
+  };
+  std::vector<generic::SeedPeak> peaks;
+  generic::AddPeakCenters(problem.data, y, kMaxSeedCenters, &peaks);
+  add_residual_peaks(probes.front(), &peaks);
+
+  // Sampled position of each location.
+  std::vector<int> slot_of;
+  std::vector<bool> is_location(base_levels.size(), false);
+  for (int j : locations) {
+    const int k = static_cast<int>(std::find(sampled.begin(), sampled.end(), j) - sampled.begin());
+    slot_of.push_back(k);
+    is_location[k] = true;
+  }
+  std::vector<Scored> seeded;
+  std::set<std::vector<int>> tried;
+  int sweep_budget = kSeededSweepBudget;
+  for (int round = 0; round < kNumSeedRounds && !peaks.empty(); ++round) {
+    // Levels of this round: locations gain every peak position, the others every width.
+    std::vector<std::vector<double>> levels = base_levels;
+    for (size_t k = 0; k < levels.size(); ++k) {
+      const int j = sampled[k];
+      for (const generic::SeedPeak& peak : peaks) {
+        if (is_location[k]) {
+          levels[k].push_back(std::min(std::max(peak.center, problem.Lower(j)), problem.Upper(j)));
+        }
+      }
+      if (is_location[k]) continue;
+      for (const generic::SeedPeak& peak : peaks) {
+        for (double per_fwhm : kWidthsPerFwhm) {
+          const double w = per_fwhm * peak.fwhm;
+          if (w > 0 && w >= problem.Lower(j) && w <= problem.Upper(j)) levels[k].push_back(w);
+        }
+      }
+    }
+    std::vector<Scored> round_points;
+    for (const std::vector<int>& assignment : generic::CenterAssignments(
+             static_cast<int>(locations.size()), static_cast<int>(peaks.size()), kMaxAssignments)) {
+      if (!tried.insert(assignment).second) continue;
+      Scored fixed;
+      fixed.index.assign(levels.size(), 0);
+      fixed.theta.resize(static_cast<Eigen::Index>(levels.size()));
+      std::vector<bool> is_fixed(levels.size(), false);
+      for (size_t i = 0; i < assignment.size(); ++i) {
+        if (assignment[i] < 0) continue;
+        const int k = slot_of[i];
+        fixed.index[k] = static_cast<int>(base_levels[k].size()) + assignment[i];
+        is_fixed[k] = true;
+      }
+      std::vector<int> free_slots;
+      std::vector<int> num_levels;
+      for (size_t k = 0; k < levels.size(); ++k) {
+        if (is_fixed[k]) continue;
+        free_slots.push_back(static_cast<int>(k));
+        num_levels.push_back(
+            static_cast<int>(is_location[k] ? base_levels[k].size() : levels[k].size()));
+      }
+      std::vector<std::vector<int>> design = {std::vector<int>()};
+      if (!free_slots.empty()) design = generic::DesignPoints(num_levels, kSeededDesignBudget);
+      Scored best_point;
+      for (const std::vector<int>& point : design) {
+        Scored s = fixed;
+        for (size_t f = 0; f < free_slots.size(); ++f) s.index[free_slots[f]] = point[f];
+        for (size_t k = 0; k < levels.size(); ++k) s.theta[k] = levels[k][s.index[k]];
+        s.rss = evaluator->Cost(s.theta);
+        if (s.rss < best_point.rss) best_point = std::move(s);
+      }
+      if (!std::isfinite(best_point.rss)) continue;
+      best_point.is_seeded = true;
+      seeded.push_back(best_point);
+      round_points.push_back(sweep_budget > 0 ? Sweep(best_point, levels, evaluator, &sweep_budget)
+                                              : best_point);
+    }
+    std::stable_sort(round_points.begin(), round_points.end(),
+                     [](const Scored& a, const Scored& b) { return a.rss < b.rss; });
+    int num_new = 0;
+    for (size_t k = 0; k < round_points.size() && static_cast<int>(k) < kNumResidualProbes; ++k) {
+      Eigen::VectorXd full;
+      if (evaluator->Full(round_points[k].theta, &full))
+        num_new += add_residual_peaks(full, &peaks);
+    }
+    for (Scored& s : round_points) seeded.push_back(std::move(s));
+    if (num_new == 0) break;
+  }
+  return seeded;
 }
 
 bool IsDuplicate(const GuessCandidate& a, const GuessCandidate& b) {
@@ -246,7 +379,7 @@ std::vector<GuessCandidate> PolishBest(const Problem& problem, const std::vector
     GuessCandidate c;
     if (!evaluator->Full(s.theta, &c.parameters)) continue;
     c.rss = s.rss;
-    c.name = s.is_sweep ? "sweep" : "grid";
+    c.name = s.is_seeded ? "peaks" : (s.is_sweep ? "sweep" : "grid");
     bool duplicate = false;
     for (const GuessCandidate& g : grid) duplicate = duplicate || IsDuplicate(c, g);
     if (!duplicate) grid.push_back(std::move(c));
@@ -340,6 +473,10 @@ bool GuessGeneric(const Model& model, const Dataset& data, const Eigen::VectorXd
   int sweep_budget = kSweepBudget;
   for (size_t k = 0; k < num_swept; ++k) {
     scored.push_back(Sweep(scored[k], levels, &evaluator, &sweep_budget));
+  }
+  std::stable_sort(scored.begin(), scored.end(), by_rss);
+  for (Scored& s : SeedLocations(problem, scored, levels, &evaluator)) {
+    scored.push_back(std::move(s));
   }
   std::stable_sort(scored.begin(), scored.end(), by_rss);
 

@@ -1,0 +1,228 @@
+// Certification of the whole fit path against NIST StRD nonlinear regression from no start:
+// each of the 27 problems goes through RunFit (server/fit_service.h) as a pipeline would post
+// it: the expression, the data columns, parameter order b1..bp, the problem's response
+// ("log(y)" for Nelson), no start, the default budget and seed. PrepareFit derives the
+// generic guesses, RunMultistart runs the seeded starts, and the best optimum is scored by
+// log relative error against NIST's certified values (NIST ITL,
+// https://www.itl.nist.gov/div898/strd/nls/nls_main.shtml; files in tests/data/nist-strd).
+//
+// The symmetry maps below are copied from nist_strd_no_start_test.cpp (they live inside that
+// .cpp there): exact parameter maps that leave each NIST model unchanged, so an optimum at a
+// symmetric image of the certified values is scored at that image. The companion test checks
+// that each map is exact.
+
+#include <algorithm>
+#include <catch2/catch.hpp>
+#include <chrono>
+#include <cmath>
+#include <cstdio>
+#include <string>
+#include <vector>
+
+#include "server/fit_service.h"
+#include "tests/certification/certification_support.h"
+#include "tests/certification/nist_strd.h"
+
+namespace foothold {
+namespace certification {
+namespace {
+
+constexpr double kCertifiedDigits = 6.0;
+// Lanczos1's certified RSS (1.4e-25) is float64 rounding: the check is an RSS ceiling.
+constexpr double kLanczos1RssCeiling = 1e-20;
+// Two threads; the result does not depend on the count (tests/server/determinism_test.cpp).
+constexpr int kNumThreads = 2;
+
+// A signed permutation: image[i] = sign[i] * params[source[i]].
+struct SignedPermutation {
+  std::vector<int> source;
+  std::vector<double> sign;
+};
+
+SignedPermutation Swap(std::vector<int> source) {
+  return {source, std::vector<double>(source.size(), 1.0)};
+}
+SignedPermutation Negate(int num_params, std::vector<int> negated) {
+  SignedPermutation map;
+  for (int i = 0; i < num_params; ++i) map.source.push_back(i);
+  map.sign.assign(num_params, 1.0);
+  for (int i : negated) map.sign[i] = -1.0;
+  return map;
+}
+
+// Generators per problem (0-based indices), as in nist_strd_no_start_test.cpp.
+std::vector<SignedPermutation> SymmetryGenerators(const std::string& problem) {
+  // Lanczos1-3: three commuting exponential terms.
+  if (problem.rfind("Lanczos", 0) == 0) {
+    return {Swap({2, 3, 0, 1, 4, 5}), Swap({0, 1, 4, 5, 2, 3})};
+  }
+  // Gauss1-3: the peaks (b3,b4,b5) and (b6,b7,b8) commute; the widths enter squared.
+  if (problem.rfind("Gauss", 0) == 0) {
+    return {Swap({0, 1, 5, 6, 7, 2, 3, 4}), Negate(8, {4}), Negate(8, {7})};
+  }
+  // MGH17: two commuting exponential terms.
+  if (problem == "MGH17") return {Swap({0, 2, 1, 4, 3})};
+  // Eckerle4: (b1, b2) -> (-b1, -b2).
+  if (problem == "Eckerle4") return {Negate(3, {0, 1})};
+  // ENSO: two commuting cycles, each unchanged by negating its period and sine amplitude.
+  if (problem == "ENSO") {
+    return {Swap({0, 1, 2, 6, 7, 8, 3, 4, 5}), Negate(9, {3, 5}), Negate(9, {6, 8})};
+  }
+  return {};
+}
+
+SignedPermutation Compose(const SignedPermutation& outer, const SignedPermutation& inner) {
+  SignedPermutation map;
+  for (size_t i = 0; i < outer.source.size(); ++i) {
+    map.source.push_back(inner.source[outer.source[i]]);
+    map.sign.push_back(outer.sign[i] * inner.sign[outer.source[i]]);
+  }
+  return map;
+}
+
+std::vector<SignedPermutation> SymmetryGroup(const std::string& problem, int num_params) {
+  std::vector<SignedPermutation> group = {Negate(num_params, {})};
+  const std::vector<SignedPermutation> generators = SymmetryGenerators(problem);
+  for (size_t k = 0; k < group.size(); ++k) {
+    for (const SignedPermutation& g : generators) {
+      const SignedPermutation next = Compose(g, group[k]);
+      const bool is_known = std::any_of(group.begin(), group.end(), [&](const auto& m) {
+        return m.source == next.source && m.sign == next.sign;
+      });
+      if (!is_known) group.push_back(next);
+    }
+  }
+  return group;
+}
+
+// Problems whose best optimum from no start through the fit path falls short, with the
+// measured figures (docs/multistart.md, Acceptance). Empty when every problem passes.
+struct Shortfall {
+  const char* problem;
+  double max_rss_ratio;  // ceiling of best RSS / certified RSS
+  const char* why;
+};
+const std::vector<Shortfall>& KnownShortfalls() {
+  static const std::vector<Shortfall> shortfalls = {};
+  return shortfalls;
+}
+
+struct FitPathRun {
+  std::string problem;
+  std::string error;
+  bool is_run = false;
+  int num_starts = 0;
+  int num_basins = 0;
+  std::string stop;
+  double rss = std::nan("");
+  double min_param_lre = 0;
+  double rss_lre = 0;
+  bool is_image = false;
+  double seconds = 0;
+};
+
+FitRequest NistRequest(const NistProblem& p, std::string* error) {
+  FitRequest request;
+  request.label = "nist/" + p.name;
+  request.model.expression = p.model;
+  request.model.parameters = p.ParameterNames();
+  for (size_t c = 0; c < p.data_columns.size(); ++c) {
+    const Eigen::VectorXd column = p.table.col(static_cast<Eigen::Index>(c));
+    if (!request.data.AddColumn(p.data_columns[c],
+                                std::vector<double>(column.data(), column.data() + column.size()),
+                                error)) {
+      return request;
+    }
+  }
+  request.response = p.response;
+  request.threads = kNumThreads;
+  return request;
+}
+
+FitPathRun FitThroughService(const NistProblem& p) {
+  FitPathRun run;
+  run.problem = p.name;
+  const FitRequest request = NistRequest(p, &run.error);
+  if (!run.error.empty()) return run;
+  const auto begin = std::chrono::steady_clock::now();
+  FitOutcome outcome;
+  if (!RunFit(request, &outcome, &run.error)) return run;
+  run.seconds = std::chrono::duration<double>(std::chrono::steady_clock::now() - begin).count();
+  run.is_run = true;
+  run.num_starts = static_cast<int>(outcome.starts.size());
+  run.num_basins = static_cast<int>(outcome.basins.size());
+  run.stop = outcome.search_stop;
+  run.rss = outcome.statistics.rss;
+  run.rss_lre = Lre(run.rss, p.certified_rss);
+  const Eigen::VectorXd& best = outcome.best.parameters;
+  if (best.size() != p.num_params) return run;
+  run.min_param_lre = -1;
+  const std::vector<SignedPermutation> group = SymmetryGroup(p.name, p.num_params);
+  for (size_t k = 0; k < group.size(); ++k) {
+    double lre = kMaxLre;
+    for (int j = 0; j < p.num_params; ++j) {
+      lre = std::min(lre, Lre(group[k].sign[j] * best[group[k].source[j]], p.certified[j]));
+    }
+    if (lre > run.min_param_lre) {
+      run.min_param_lre = lre;
+      run.is_image = k > 0;
+    }
+  }
+  return run;
+}
+
+TEST_CASE("NIST StRD: from no start, RunFit (guesses, multistart) reaches the certified values",
+          "[certification][nist][multistart]") {
+  std::vector<NistProblem> problems;
+  std::string error;
+  const bool is_loaded = LoadNistProblems(FOOTHOLD_NIST_DIR, &problems, &error);
+  INFO("NIST StRD: " << error);
+  REQUIRE(is_loaded);
+  REQUIRE(problems.size() == 27);
+
+  std::vector<FitPathRun> runs;
+  for (const NistProblem& p : problems) runs.push_back(FitThroughService(p));
+
+  std::printf("\nNIST StRD from no start through RunFit (default budget and seed, %d threads)\n",
+              kNumThreads);
+  std::printf("%-9s %6s %6s %12s %5s %7s %8s %7s\n", "problem", "starts", "basins", "best rss",
+              "image", "LRE(b)", "LRE(rss)", "seconds");
+  double total_seconds = 0;
+  for (const FitPathRun& r : runs) {
+    total_seconds += r.seconds;
+    std::printf("%-9s %6d %6d %12.5e %5s %7.1f %8.1f %7.2f  %s\n", r.problem.c_str(), r.num_starts,
+                r.num_basins, r.rss, r.is_image ? "yes" : "no", r.min_param_lre, r.rss_lre,
+                r.seconds, r.is_run ? r.stop.c_str() : ("error: " + r.error).c_str());
+  }
+  std::printf("total %.1f s\n", total_seconds);
+  std::fflush(stdout);
+
+  for (size_t k = 0; k < runs.size(); ++k) {
+    const FitPathRun& r = runs[k];
+    const NistProblem& p = problems[k];
+    INFO("NIST StRD problem " << r.problem << " through RunFit: " << r.num_starts << " starts, "
+                              << r.num_basins << " basins, stop " << r.stop << ", rss "
+                              << RoundTrip(r.rss) << " vs certified " << RoundTrip(p.certified_rss)
+                              << "; error: " << r.error);
+    REQUIRE(r.is_run);
+    const Shortfall* shortfall = nullptr;
+    for (const Shortfall& s : KnownShortfalls()) {
+      if (r.problem == s.problem) shortfall = &s;
+    }
+    if (shortfall) {
+      WARN("NIST StRD " << r.problem << " through RunFit: " << shortfall->why);
+      CHECK(r.rss <= shortfall->max_rss_ratio * p.certified_rss);
+      continue;
+    }
+    CHECK(r.min_param_lre >= kCertifiedDigits);
+    if (r.problem == "Lanczos1") {
+      CHECK(r.rss < kLanczos1RssCeiling);
+    } else {
+      CHECK(r.rss_lre >= kCertifiedDigits);
+    }
+  }
+}
+
+}  // namespace
+}  // namespace certification
+}  // namespace foothold
