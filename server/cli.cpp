@@ -3,6 +3,7 @@
 #include "server/demo_command.h"
 #include "server/compare_command.h"
 #include "server/fit_flags.h"
+#include "server/guess_command.h"
 #include "server/fit_service.h"
 #include "server/json_codec.h"
 #include "server/serve_command.h"
@@ -17,6 +18,7 @@ Fits curves to measured data: a catalogue family or your own expression.
 
 commands:
   fit DATA ...      fit one dataset locally and print the result (foothold fit --help)
+  guess DATA ...    list the starting guesses a fit would use, no fit (foothold guess --help)
   compare DATA ...  fit several families and rank them by AICc (foothold compare --help)
   serve             run the HTTP daemon (foothold serve --help)
   demo              fit the demo datasets through a temporary daemon (foothold demo --help)
@@ -106,11 +108,13 @@ int RunCli(const std::vector<std::string>& args, std::ostream& out, std::ostream
   }
   if (command == "fit") return RunFitCommand(rest, out, err);
   if (command == "compare") return RunCompare(rest, out, err);
+  if (command == "guess") return RunGuessCommand(rest, out, err);
   if (command == "families") return RunFamilies(rest, out, err);
   if (command == "serve") return RunServe(rest, out, err);
   if (command == "demo") return RunDemo(rest, out, err);
   return BadInput(
-      "unknown command '" + command + "' (commands: fit, families; see foothold --help)", err);
+      "unknown command '" + command +
+          "' (commands: fit, guess, compare, families, serve, demo; see foothold --help)", err);
 }
 
 }  // namespace foothold

@@ -5,6 +5,7 @@
 
 #include <nlohmann/json.hpp>
 #include <string>
+#include <vector>
 
 #include "server/data_table.h"
 #include "server/fit_outcome.h"
@@ -36,6 +37,14 @@ Json EncodeFitRequest(const FitRequest& request);
 // The result document of DESIGN.md §3a plus foothold's extra keys (docs/result-document.md).
 // Non-finite numbers become null.
 Json EncodeFitOutcome(const FitOutcome& outcome);
+
+struct ListedGuess;
+// The seeded starts of `foothold guess`: {candidates: [{origin, rss, parameters}], guessed,
+// warnings}.
+Json EncodeGuessList(const std::vector<std::string>& parameter_names,
+                     const std::vector<ListedGuess>& guesses,
+                     const std::vector<std::string>& guessed,
+                     const std::vector<std::string>& warnings);
 
 // The catalogue: name, formula, summary, options and parameters with default bounds.
 Json EncodeFamilies();
