@@ -51,6 +51,16 @@ struct FitOutcome {
   bool ambiguous_basins = false;         // another basin fits almost as well
   bool best_basin_single_start = false;  // only one start reached the best basin
   double best_gap_chi2 = 0;              // gap of the second basin, in chi-square units
+  // The loss and method of every local fit (docs/robust-fitting.md). For a robust loss the
+  // scale is the one at best.parameters (automatic: 1.4826 MAD of the residuals), outliers
+  // are the points with |e_i / loss_scale| > outlier_cut, and the statistics' covariance is
+  // the M-estimator covariance (engine/loss/robust_reweighting.h).
+  std::string loss = "squared";
+  std::string method = "lm";
+  double loss_scale = 0;  // 0 for the squared loss
+  bool is_loss_scale_automatic = true;
+  double outlier_cut = 0;     // 0 for the squared loss
+  std::vector<int> outliers;  // point indices (data order), ascending
 
   bool IsConverged() const { return best.IsConverged(); }
   bool IsWeighted() const { return !sigma_column.empty(); }

@@ -114,20 +114,14 @@ bool ValidateMethodChoices(const FitRequest& request, std::string* error) {
     *error = "loss = '" + request.loss + "': expected one of " + JoinOptions(kKnownLosses);
     return false;
   }
-  if (request.loss != "squared") {
-    *error = "loss = '" + request.loss + "': only 'squared' is supported so far";
-    return false;
-  }
-  if (!(std::isfinite(request.loss_scale) && request.loss_scale > 0)) {
-    *error = "loss_scale = " + FormatNumber(request.loss_scale) + ": must be a finite number > 0";
+  // loss_scale > 0 fixes the robust scale; <= 0 asks for the automatic one (engine/loss).
+  if (!std::isfinite(request.loss_scale)) {
+    *error = "loss_scale = " + FormatNumber(request.loss_scale) +
+             ": must be a finite number (> 0 fixes the scale, <= 0 means automatic)";
     return false;
   }
   if (!IsOneOf(request.method, kKnownMethods)) {
     *error = "method = '" + request.method + "': expected one of " + JoinOptions(kKnownMethods);
-    return false;
-  }
-  if (request.method != "lm") {
-    *error = "method = '" + request.method + "': only 'lm' is supported so far";
     return false;
   }
   if (request.sigma_mode != "" && request.sigma_mode != "absolute" &&

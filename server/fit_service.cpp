@@ -8,6 +8,7 @@
 #include <set>
 #include <sstream>
 
+#include "engine/loss/robust_reweighting.h"
 #include "engine/model/expression_model.h"
 #include "engine/multistart/multistart.h"
 #include "engine/solve/local_fit.h"
@@ -281,10 +282,15 @@ FitOutcome DescribeRequest(const FitRequest& request, const PreparedFit& prepare
   return outcome;
 }
 
-// The local-fit options every start uses: the request's limits, the hooks' cancellation.
-LocalFitOptions LocalOptions(const PreparedFit& prepared, const FitHooks& hooks) {
+// The local-fit options every start uses: the request's limits, loss and method, the hooks'
+// cancellation. The request was validated, so loss and method parse.
+LocalFitOptions LocalOptions(const FitRequest& request, const PreparedFit& prepared,
+                             const FitHooks& hooks) {
   LocalFitOptions options;
   options.lm = prepared.solver_options;
+  LossKindFromString(request.loss, &options.loss);
+  LocalMethodFromString(request.method, &options.method);
+  options.loss_scale = request.loss_scale;
   if (hooks.should_stop) {
     const IterationCallback previous = options.lm.callback;
     const std::function<bool()> should_stop = hooks.should_stop;
@@ -296,15 +302,37 @@ LocalFitOptions LocalOptions(const PreparedFit& prepared, const FitHooks& hooks)
   return options;
 }
 
+// Statistics at `end`: least squares as always; for a robust loss the scale, the outliers and
+// the M-estimator covariance at the end point (docs/robust-fitting.md).
+void DescribeEnd(const FitRequest& request, const Problem& problem, const Eigen::VectorXd& end,
+                 FitOutcome* outcome) {
+  outcome->loss = request.loss;
+  outcome->method = request.method;
+  LossKind loss = LossKind::kSquared;
+  LossKindFromString(request.loss, &loss);
+  RobustAssessment assessment;
+  if (loss == LossKind::kSquared ||
+      !AssessRobustFit(problem, end, loss, request.loss_scale, &assessment)) {
+    outcome->statistics = ComputeFitStatistics(problem, end);
+    return;
+  }
+  outcome->statistics = ComputeRobustStatistics(problem, end, assessment);
+  outcome->loss_scale = assessment.scale;
+  outcome->is_loss_scale_automatic = assessment.is_scale_automatic;
+  outcome->outlier_cut = assessment.outlier_cut;
+  outcome->outliers = assessment.outliers;
+}
+
 // --starts 1: one local fit from the best seeded candidate, described as a one-start run.
-void RunSingleStart(const PreparedFit& prepared, const FitHooks& hooks, FitOutcome* outcome) {
+void RunSingleStart(const FitRequest& request, const PreparedFit& prepared, const FitHooks& hooks,
+                    FitOutcome* outcome) {
   const Problem& problem = prepared.problem;
   if (hooks.on_progress) hooks.on_progress(0, 1, std::numeric_limits<double>::quiet_NaN());
-  outcome->best = RunLocalFit(problem, prepared.start, LocalOptions(prepared, hooks));
+  outcome->best = RunLocalFit(problem, prepared.start, LocalOptions(request, prepared, hooks));
   const LocalFitSummary& best = outcome->best;
   const Eigen::VectorXd& end =
       best.parameters.size() == prepared.start.size() ? best.parameters : prepared.start;
-  outcome->statistics = ComputeFitStatistics(problem, end);
+  DescribeEnd(request, problem, end, outcome);
 
   StartRecord record;
   record.index = 0;
@@ -362,9 +390,12 @@ void RunManyStarts(const FitRequest& request, const PreparedFit& prepared, const
   options.seed = request.seed;
   if (request.threads > 0) options.num_threads = request.threads;
   options.deadline_seconds = request.deadline_seconds;
-  const LocalFitOptions local = LocalOptions(prepared, hooks);
+  const LocalFitOptions local = LocalOptions(request, prepared, hooks);
   options.local = local.lm;
   options.use_variable_projection = local.use_variable_projection;
+  options.method = local.method;
+  options.loss = local.loss;
+  options.loss_scale = local.loss_scale;
   if (hooks.should_stop) options.is_cancelled = hooks.should_stop;
   if (hooks.on_progress) options.progress = hooks.on_progress;
 
@@ -387,7 +418,7 @@ void RunManyStarts(const FitRequest& request, const PreparedFit& prepared, const
     outcome->best.message = summary.message;
     outcome->best.start = prepared.start;
     outcome->best.parameters = prepared.start;
-    outcome->statistics = ComputeFitStatistics(problem, prepared.start);
+    DescribeEnd(request, problem, prepared.start, outcome);
     outcome->best.initial_cost = outcome->best.final_cost = outcome->statistics.rss;
     return;
   }
@@ -396,7 +427,7 @@ void RunManyStarts(const FitRequest& request, const PreparedFit& prepared, const
   const Eigen::VectorXd& end =
       !summary.basins.empty() && best->converged ? summary.basins.front().parameters : best->end;
   outcome->best.parameters = end;
-  outcome->statistics = ComputeFitStatistics(problem, end);
+  DescribeEnd(request, problem, end, outcome);
 }
 
 }  // namespace
@@ -410,7 +441,7 @@ FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared
   const auto started = std::chrono::steady_clock::now();
   FitOutcome outcome = DescribeRequest(request, prepared);
   if (request.starts == 1) {
-    RunSingleStart(prepared, hooks, &outcome);
+    RunSingleStart(request, prepared, hooks, &outcome);
   } else {
     RunManyStarts(request, prepared, hooks, &outcome);
   }
@@ -424,8 +455,7 @@ bool RunFit(const FitRequest& request, FitOutcome* out, std::string* error) {
   return RunFit(request, FitHooks{}, out, error);
 }
 
-bool RunFit(const FitRequest& request, const FitHooks& hooks, FitOutcome* out,
-            std::string* error) {
+bool RunFit(const FitRequest& request, const FitHooks& hooks, FitOutcome* out, std::string* error) {
   PreparedFit prepared;
   if (!PrepareFit(request, &prepared, error)) return false;
   *out = RunPreparedFit(request, prepared, hooks);

@@ -98,6 +98,10 @@ Json EncodeBest(const FitOutcome& outcome) {
   object["rank"] = stats.rank;
   object["rank_deficient"] = stats.is_rank_deficient;
   object["unidentifiable"] = std::move(unidentifiable);
+  object["loss"] = outcome.loss;
+  object["loss_scale"] = outcome.loss == "squared" ? Json(nullptr) : Number(outcome.loss_scale);
+  object["loss_scale_automatic"] = outcome.is_loss_scale_automatic;
+  object["method"] = outcome.method;
   object["covariance_scale"] = Number(stats.covariance_scale);
   object["t_quantile"] = Number(stats.t_quantile);
   object["correlation"] = Matrix(stats.correlation);
@@ -161,6 +165,10 @@ Json EncodeFitOutcome(const FitOutcome& outcome) {
   document["sigma_mode"] =
       outcome.IsWeighted() ? Json(ToString(outcome.sigma_mode)) : Json(nullptr);
   document["best"] = EncodeBest(outcome);
+  document["outliers"] = {
+      {"count", outcome.outliers.size()},
+      {"indices", outcome.outliers},
+      {"cut", outcome.loss == "squared" ? Json(nullptr) : Number(outcome.outlier_cut)}};
   document["basins"] = EncodeBasins(outcome);
   document["starts"] = EncodeStarts(outcome);
   document["search"] = {{"stop", outcome.search_stop},

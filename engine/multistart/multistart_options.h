@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "engine/solve/levenberg_marquardt.h"
+#include "engine/solve/local_fit.h"
 #include "engine/stats/fit_statistics.h"
 
 namespace foothold {
@@ -99,6 +100,11 @@ struct MultistartOptions {
   // Each local fit projects out free, unbounded linear parameters (variable projection,
   // engine/solve/local_fit.h). Default true; the start log records full parameters either way.
   bool use_variable_projection = true;
+  // Method, loss and loss scale of every local fit (LocalFitOptions, engine/solve/local_fit.h).
+  // Defaults: Levenberg–Marquardt, least squares, automatic scale.
+  LocalMethod method = LocalMethod::kLevenbergMarquardt;
+  LossKind loss = LossKind::kSquared;
+  double loss_scale = 0;
   // Options of the statistics at each basin's representative point (standard errors).
   StatisticsOptions statistics;
 

@@ -113,6 +113,9 @@ StartRecord MultistartRun::RunStart(const PlannedStart& planned, int worker) {
   LocalFitOptions fit_options;
   fit_options.lm = local;
   fit_options.use_variable_projection = options_.use_variable_projection;
+  fit_options.method = options_.method;
+  fit_options.loss = options_.loss;
+  fit_options.loss_scale = options_.loss_scale;
   const LocalFitSummary fit = RunLocalFit(worker_problems_[worker], planned.start, fit_options);
 
   StartRecord record;
