@@ -1,13 +1,15 @@
 #!/usr/bin/env bash
-# Sets up a machine, builds foothold and fits every demo dataset, printing each result.
+# Sets up a machine, builds foothold and runs the main job on the embedded default: a
+# daemon on a temporary local SQLite store, every demo dataset posted to it over HTTP,
+# the results polled and printed as one summary table (`foothold demo`).
 #
-#   bash scripts/demo.sh            a table per dataset
-#   bash scripts/demo.sh --json     extra arguments go to every `foothold fit` (here: JSON)
+#   bash scripts/demo.sh                 the daemon demo
+#   bash scripts/demo.sh --workers 2     extra arguments go to `foothold demo`
 #
 # The datasets and how to fit them are listed in docs/examples/manifest.tsv (written by
 # scripts/generate_demo_data.py with the data). Builds in build/ at the repository root,
 # or in $FOOTHOLD_BUILD_DIR when set. Exits non-zero when a fit could not be run or did
-# not converge (the demo data are made to converge from the manifest's starts).
+# not converge.
 set -euo pipefail
 
 repo_root="$(cd "$(dirname "${BASH_SOURCE[0]}")/.." && pwd)"
@@ -36,59 +38,5 @@ if [[ -z "${foothold}" || ! -x "${foothold}" ]]; then
   exit 1
 fi
 
-# Prints the command as a person would type it: plain words bare, the rest in quotes.
-show_command() {
-  local line='$ foothold' arg
-  for arg in "$@"; do
-    if [[ "${arg}" =~ ^[A-Za-z0-9_./:=,+-]+$ ]]; then
-      line+=" ${arg}"
-    else
-      line+=" '${arg//\'/\'\\\'\'}'"
-    fi
-  done
-  echo "${line}"
-}
-
-num_fits=0
-failed=()
-not_converged=()
-# Columns: file family peaks expression parameters start bounds sigma_column title;
-# '-' marks an empty field (tabs are whitespace to `read`, so empty fields would vanish).
-while IFS=$'\t' read -r file family peaks expression parameters start bounds sigma_column title; do
-  [[ -z "${file}" || "${file}" == \#* || "${file}" == "file" ]] && continue
-  args=(fit "${examples}/${file}")
-  if [[ "${family}" != "-" ]]; then
-    args+=(--family "${family}")
-    [[ "${peaks}" != "-" ]] && args+=(--peaks "${peaks}")
-  else
-    args+=(--expr "${expression}" --params "${parameters}")
-  fi
-  [[ "${start}" != "-" ]] && args+=(--start "${start}")
-  [[ "${bounds}" != "-" ]] && args+=(--bounds "${bounds}")
-  [[ "${sigma_column}" != "-" ]] && args+=(--sigma-column "${sigma_column}")
-  args+=("$@")
-
-  num_fits=$((num_fits + 1))
-  echo
-  echo "=== ${title} (${file})"
-  show_command "${args[@]}"
-  status=0
-  "${foothold}" "${args[@]}" </dev/null || status=$?
-  case "${status}" in
-    0) ;;
-    3) not_converged+=("${file}") ;;  # the fit ran and says it did not converge
-    *) failed+=("${file}") ;;
-  esac
-done <"${manifest}"
-
-echo
-if [[ ${num_fits} -eq 0 ]]; then
-  echo "demo.sh: ${manifest} lists no datasets" >&2
-  exit 1
-fi
-if [[ ${#failed[@]} -ne 0 || ${#not_converged[@]} -ne 0 ]]; then
-  echo "demo: ${num_fits} datasets; could not run: ${failed[*]:-none};" \
-    "did not converge: ${not_converged[*]:-none}" >&2
-  exit 1
-fi
-echo "demo: all ${num_fits} fits ran (true values: ${examples}/truth.tsv)"
+echo "== foothold demo: a daemon on a temporary store, the datasets of ${manifest} posted" >&2
+exec "${foothold}" demo --examples "${examples}" "$@" </dev/null

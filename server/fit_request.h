@@ -57,10 +57,12 @@ struct FitRequest {
   std::vector<NamedBounds> bounds;
   // "absolute" or "relative"; empty means absolute when sigma is given.
   std::string sigma_mode;
-  // Robust loss and its scale; only "squared" is implemented so far.
+  // Robust loss: squared, soft_l1, huber, cauchy, tukey or l1 (docs/robust-fitting.md).
   std::string loss = "squared";
-  double loss_scale = 1.0;
-  // Local method; only "lm" is implemented so far.
+  // Scale s of the robust loss in the response's units; <= 0 (the default) means the
+  // automatic robust estimate (1.4826 MAD of the residuals, engine/loss).
+  double loss_scale = 0.0;
+  // Local method: lm (default), gauss_newton or bfgs.
   std::string method = "lm";
   // Number of local fits. 0 (the default) is the automatic budget, max(16, 8 p) capped at
   // 256 for p free parameters, ended earlier by the stopping rule; 1 is a single local fit
