@@ -216,6 +216,26 @@ void AddChiSquareFindings(const FitOutcome& outcome, const VerdictOptions& optio
   }
 }
 
+// A robust fit marks the points whose standardised residual passes the loss's cut; they
+// were down-weighted (or ignored), which a person should confirm was right.
+void AddOutlierFindings(const FitOutcome& outcome, const VerdictOptions& options,
+                        std::vector<Finding>* findings) {
+  const int count = static_cast<int>(outcome.outliers.size());
+  if (count == 0 || count < options.min_outliers) return;
+  constexpr int kNamedPoints = 5;
+  std::vector<std::string> shown;
+  for (int k = 0; k < count && k < kNamedPoints; ++k) {
+    shown.push_back(std::to_string(outcome.outliers[k]));
+  }
+  std::string list = JoinNames(shown);
+  if (count > kNamedPoints) list += " and " + std::to_string(count - kNamedPoints) + " more";
+  findings->push_back(
+      {"outliers", std::to_string(count) + (count == 1 ? " point lies" : " points lie") +
+                       " beyond " + Short(outcome.outlier_cut) + " robust scales of the " +
+                       outcome.loss + " fit (point index " + list +
+                       ", from 0) and barely count; check them before trusting the result."});
+}
+
 // Location parameters of the catalogue families: the x of a peak, a midpoint or an
 // inflection. Expressions have no such names and are not judged.
 struct Location {
@@ -301,6 +321,7 @@ Verdict Judge(const FitOutcome& outcome, const XRange& range, const VerdictOptio
   AddBoundFindings(outcome, &findings);
   AddResidualFindings(outcome, options, &findings);
   AddChiSquareFindings(outcome, options, &findings);
+  AddOutlierFindings(outcome, options, &findings);
   AddCorrelationFindings(outcome, options, &findings);
   AddExtrapolationFindings(outcome, range, options, &findings);
   AddSingleStartFindings(outcome, &findings);
@@ -344,6 +365,7 @@ bool VerdictOptions::Validate(std::string* error) const {
   if (!(extrapolation_margin >= 0) || !std::isfinite(extrapolation_margin)) {
     return fail("extrapolation_margin", extrapolation_margin, "must be finite and >= 0");
   }
+  if (min_outliers < 1) return fail("min_outliers", min_outliers, "must be >= 1");
   if (!(equivalent_gap_chi2 >= 0) || !std::isfinite(equivalent_gap_chi2)) {
     return fail("equivalent_gap_chi2", equivalent_gap_chi2, "must be finite and >= 0");
   }

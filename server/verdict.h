@@ -37,6 +37,9 @@ struct VerdictOptions {
   // curve under two parameter sets, a symmetry of the model: the "ambiguous_basins" sentence
   // then says to bound a parameter. Default 1e-6, far below any gap noise could make. >= 0.
   double equivalent_gap_chi2 = 1e-6;
+  // "outliers" when a robust fit marks at least this many points (|e_i / scale| beyond the
+  // loss's cut, FitOutcome::outliers). Default 1. >= 1.
+  int min_outliers = 1;
 
   bool Validate(std::string* error) const;
 };

@@ -205,6 +205,23 @@ TEST_CASE("Verdict: a peak centred beyond the last point gives extrapolated", "[
   CHECK(outcome.verdict.summary.find("center") != std::string::npos);
 }
 
+TEST_CASE("Verdict: a robust fit that marks a spike gives outliers", "[server]") {
+  constexpr int kSpike = 12;
+  constexpr int kPoints = 60;
+  const double spike_x = 10.0 * kSpike / (kPoints - 1);
+  FitRequest request = Generate(
+      [spike_x](double x) {
+        return Gaussian(x, 10, 5, 1, 1) + (std::abs(x - spike_x) < 1e-9 ? 30 * kNoise : 0);
+      },
+      kPoints, 0, 10, kNoise);
+  request.model.family = "gaussian";
+  request.loss = "huber";
+  const FitOutcome outcome = Fit(request);
+  RequireOnly(outcome, "outliers");
+  CHECK(outcome.outliers == std::vector<int>{kSpike});
+  CHECK(outcome.verdict.summary.find("point index 12") != std::string::npos);
+}
+
 TEST_CASE("Verdict: expressions are not judged for extrapolation", "[server]") {
   FitRequest request =
       Generate([](double x) { return Gaussian(x, 10, 10.4, 1.5, 1); }, 60, 0, 10, kNoise);
