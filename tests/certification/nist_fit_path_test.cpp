@@ -22,6 +22,7 @@
 #include "server/fit_service.h"
 #include "tests/certification/certification_support.h"
 #include "tests/certification/nist_strd.h"
+#include "tests/certification/nist_symmetries.h"
 
 namespace foothold {
 namespace certification {
@@ -32,68 +33,6 @@ constexpr double kCertifiedDigits = 6.0;
 constexpr double kLanczos1RssCeiling = 1e-20;
 // Two threads; the result does not depend on the count (tests/server/determinism_test.cpp).
 constexpr int kNumThreads = 2;
-
-// A signed permutation: image[i] = sign[i] * params[source[i]].
-struct SignedPermutation {
-  std::vector<int> source;
-  std::vector<double> sign;
-};
-
-SignedPermutation Swap(std::vector<int> source) {
-  return {source, std::vector<double>(source.size(), 1.0)};
-}
-SignedPermutation Negate(int num_params, std::vector<int> negated) {
-  SignedPermutation map;
-  for (int i = 0; i < num_params; ++i) map.source.push_back(i);
-  map.sign.assign(num_params, 1.0);
-  for (int i : negated) map.sign[i] = -1.0;
-  return map;
-}
-
-// Generators per problem (0-based indices), as in nist_strd_no_start_test.cpp.
-std::vector<SignedPermutation> SymmetryGenerators(const std::string& problem) {
-  // Lanczos1-3: three commuting exponential terms.
-  if (problem.rfind("Lanczos", 0) == 0) {
-    return {Swap({2, 3, 0, 1, 4, 5}), Swap({0, 1, 4, 5, 2, 3})};
-  }
-  // Gauss1-3: the peaks (b3,b4,b5) and (b6,b7,b8) commute; the widths enter squared.
-  if (problem.rfind("Gauss", 0) == 0) {
-    return {Swap({0, 1, 5, 6, 7, 2, 3, 4}), Negate(8, {4}), Negate(8, {7})};
-  }
-  // MGH17: two commuting exponential terms.
-  if (problem == "MGH17") return {Swap({0, 2, 1, 4, 3})};
-  // Eckerle4: (b1, b2) -> (-b1, -b2).
-  if (problem == "Eckerle4") return {Negate(3, {0, 1})};
-  // ENSO: two commuting cycles, each unchanged by negating its period and sine amplitude.
-  if (problem == "ENSO") {
-    return {Swap({0, 1, 2, 6, 7, 8, 3, 4, 5}), Negate(9, {3, 5}), Negate(9, {6, 8})};
-  }
-  return {};
-}
-
-SignedPermutation Compose(const SignedPermutation& outer, const SignedPermutation& inner) {
-  SignedPermutation map;
-  for (size_t i = 0; i < outer.source.size(); ++i) {
-    map.source.push_back(inner.source[outer.source[i]]);
-    map.sign.push_back(outer.sign[i] * inner.sign[outer.source[i]]);
-  }
-  return map;
-}
-
-std::vector<SignedPermutation> SymmetryGroup(const std::string& problem, int num_params) {
-  std::vector<SignedPermutation> group = {Negate(num_params, {})};
-  const std::vector<SignedPermutation> generators = SymmetryGenerators(problem);
-  for (size_t k = 0; k < group.size(); ++k) {
-    for (const SignedPermutation& g : generators) {
-      const SignedPermutation next = Compose(g, group[k]);
-      const bool is_known = std::any_of(group.begin(), group.end(), [&](const auto& m) {
-        return m.source == next.source && m.sign == next.sign;
-      });
-      if (!is_known) group.push_back(next);
-    }
-  }
-  return group;
-}
 
 // Problems whose best optimum from no start through the fit path falls short, with the
 // measured figures (docs/multistart.md, Acceptance). Empty when every problem passes.
