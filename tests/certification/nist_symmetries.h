@@ -7,6 +7,8 @@
 #include <string>
 #include <vector>
 
+#include "tests/certification/certification_support.h"
+
 namespace foothold {
 namespace certification {
 
@@ -89,6 +91,22 @@ inline Eigen::VectorXd Apply(const SignedPermutation &map, const Eigen::VectorXd
     image[i] = (is_magnitude ? 1.0 : map.sign[i]) * params[map.source[i]];
   }
   return image;
+}
+
+// The smallest LRE over the parameters at the member of the symmetry orbit of `params`
+// closest to the certified values.
+inline double MinLreModuloSymmetry(const std::string &problem, const Eigen::VectorXd &params,
+                                   const std::vector<double> &certified) {
+  double best = 0;
+  for (const SignedPermutation &map : SymmetryGroup(problem, static_cast<int>(params.size()))) {
+    const Eigen::VectorXd image = Apply(map, params, false);
+    double lre = kMaxLre;
+    for (size_t j = 0; j < certified.size(); ++j) {
+      lre = std::min(lre, Lre(image[static_cast<Eigen::Index>(j)], certified[j]));
+    }
+    best = std::max(best, lre);
+  }
+  return best;
 }
 
 }  // namespace certification

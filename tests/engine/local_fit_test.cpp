@@ -14,6 +14,7 @@
 #include "engine/model/families/families.h"
 #include "tests/certification/certification_support.h"
 #include "tests/certification/nist_strd.h"
+#include "tests/certification/nist_symmetries.h"
 
 namespace foothold {
 namespace {
@@ -278,77 +279,6 @@ TEST_CASE("RunLocalFit: a projected valley at infinity falls back to plain LM", 
   CHECK(std::abs(summary.parameters[1] - 0.5) < 0.05);
 }
 
-// Transformations that leave a NIST expression (as written in index.json) unchanged: the
-// certified optimum is one member of its orbit, and a fit may end at any other.
-using Transform = void (*)(Eigen::VectorXd*);
-std::vector<Transform> NistSymmetries(const std::string& name) {
-  if (name == "MGH17") {  // b2*exp(-x*b4) <-> b3*exp(-x*b5)
-    return {[](Eigen::VectorXd* p) {
-      std::swap((*p)[1], (*p)[2]);
-      std::swap((*p)[3], (*p)[4]);
-    }};
-  }
-  if (name == "Eckerle4") {  // (b1/b2)*exp(-0.5*((x-b3)/b2)^2) is even in (b1, b2)
-    return {[](Eigen::VectorXd* p) { *p = p->cwiseProduct(Eigen::Vector3d(-1, -1, 1)); }};
-  }
-  if (name.rfind("Lanczos", 0) == 0) {  // the three b*exp(-b*x) terms commute
-    return {[](Eigen::VectorXd* p) {
-              std::swap((*p)[0], (*p)[2]);
-              std::swap((*p)[1], (*p)[3]);
-            },
-            [](Eigen::VectorXd* p) {
-              std::swap((*p)[2], (*p)[4]);
-              std::swap((*p)[3], (*p)[5]);
-            }};
-  }
-  if (name.rfind("Gauss", 0) == 0) {  // widths enter squared, the two peaks commute
-    return {[](Eigen::VectorXd* p) { (*p)[4] = -(*p)[4]; },
-            [](Eigen::VectorXd* p) { (*p)[7] = -(*p)[7]; },
-            [](Eigen::VectorXd* p) {
-              for (int k = 2; k < 5; ++k) std::swap((*p)[k], (*p)[k + 3]);
-            }};
-  }
-  if (name == "ENSO") {  // the two cycles commute; a negative period flips its sine
-    return {[](Eigen::VectorXd* p) {
-              for (int k = 3; k < 6; ++k) std::swap((*p)[k], (*p)[k + 3]);
-            },
-            [](Eigen::VectorXd* p) {
-              (*p)[3] = -(*p)[3];
-              (*p)[5] = -(*p)[5];
-            },
-            [](Eigen::VectorXd* p) {
-              (*p)[6] = -(*p)[6];
-              (*p)[8] = -(*p)[8];
-            }};
-  }
-  return {};
-}
-
-// The smallest LRE over the parameters, at the best member of the symmetry orbit.
-double MinLreModuloSymmetry(const std::string& name, const Eigen::VectorXd& params,
-                            const std::vector<double>& certified) {
-  std::vector<Eigen::VectorXd> orbit = {params};
-  const std::vector<Transform> generators = NistSymmetries(name);
-  for (size_t i = 0; i < orbit.size() && orbit.size() < 64; ++i) {
-    for (Transform t : generators) {
-      Eigen::VectorXd next = orbit[i];
-      t(&next);
-      bool seen = false;
-      for (const Eigen::VectorXd& q : orbit) seen = seen || q == next;
-      if (!seen) orbit.push_back(next);
-    }
-  }
-  double best = 0;
-  for (const Eigen::VectorXd& q : orbit) {
-    double lre = certification::kMaxLre;
-    for (size_t j = 0; j < certified.size(); ++j) {
-      lre = std::min(lre, certification::Lre(q[j], certified[j]));
-    }
-    best = std::max(best, lre);
-  }
-  return best;
-}
-
 std::vector<certification::NistProblem> LoadProblems() {
   std::vector<certification::NistProblem> problems;
   std::string error;
@@ -381,7 +311,8 @@ TEST_CASE("RunLocalFit: NIST StRD problems with linear parameters reach the cert
       const bool fell_back = summary.message.find("degenerate valley") != std::string::npos;
       CHECK((UsedVariableProjection(summary) || fell_back));
       num_fallbacks += fell_back ? 1 : 0;
-      const double min_lre = MinLreModuloSymmetry(nist.name, summary.parameters, nist.certified);
+      const double min_lre =
+          certification::MinLreModuloSymmetry(nist.name, summary.parameters, nist.certified);
       std::cout << nist.name << " start " << which << ": min LRE " << min_lre << ", "
                 << summary.num_iterations << " iterations\n";
       CHECK(min_lre >= kCertifiedDigits);

@@ -13,6 +13,7 @@
 #include "heuristics/guess.h"
 #include "tests/certification/certification_support.h"
 #include "tests/certification/nist_strd.h"
+#include "tests/certification/nist_symmetries.h"
 
 namespace foothold {
 namespace {
@@ -198,77 +199,6 @@ TEST_CASE("GuessGeneric: the same input gives the same candidates", "[heuristics
   }
 }
 
-// Transformations that leave a NIST expression (as written in index.json) unchanged: the
-// certified optimum is one member of its orbit, and a fit may end at any other.
-using Transform = void (*)(Eigen::VectorXd*);
-std::vector<Transform> NistSymmetries(const std::string& name) {
-  if (name == "MGH17") {  // b2*exp(-x*b4) <-> b3*exp(-x*b5)
-    return {[](Eigen::VectorXd* p) {
-      std::swap((*p)[1], (*p)[2]);
-      std::swap((*p)[3], (*p)[4]);
-    }};
-  }
-  if (name == "Eckerle4") {  // (b1/b2)*exp(-0.5*((x-b3)/b2)^2) is even in (b1, b2)
-    return {[](Eigen::VectorXd* p) { *p = p->cwiseProduct(Eigen::Vector3d(-1, -1, 1)); }};
-  }
-  if (name.rfind("Lanczos", 0) == 0) {  // the three b*exp(-b*x) terms commute
-    return {[](Eigen::VectorXd* p) {
-              std::swap((*p)[0], (*p)[2]);
-              std::swap((*p)[1], (*p)[3]);
-            },
-            [](Eigen::VectorXd* p) {
-              std::swap((*p)[2], (*p)[4]);
-              std::swap((*p)[3], (*p)[5]);
-            }};
-  }
-  if (name.rfind("Gauss", 0) == 0) {  // widths enter squared, the two peaks commute
-    return {[](Eigen::VectorXd* p) { (*p)[4] = -(*p)[4]; },
-            [](Eigen::VectorXd* p) { (*p)[7] = -(*p)[7]; },
-            [](Eigen::VectorXd* p) {
-              for (int k = 2; k < 5; ++k) std::swap((*p)[k], (*p)[k + 3]);
-            }};
-  }
-  if (name == "ENSO") {  // the two cycles commute; a negative period flips its sine
-    return {[](Eigen::VectorXd* p) {
-              for (int k = 3; k < 6; ++k) std::swap((*p)[k], (*p)[k + 3]);
-            },
-            [](Eigen::VectorXd* p) {
-              (*p)[3] = -(*p)[3];
-              (*p)[5] = -(*p)[5];
-            },
-            [](Eigen::VectorXd* p) {
-              (*p)[6] = -(*p)[6];
-              (*p)[8] = -(*p)[8];
-            }};
-  }
-  return {};
-}
-
-// The smallest LRE over the parameters, at the best member of the symmetry orbit.
-double MinLreModuloSymmetry(const std::string& name, const Eigen::VectorXd& params,
-                            const std::vector<double>& certified) {
-  std::vector<Eigen::VectorXd> orbit = {params};
-  const std::vector<Transform> generators = NistSymmetries(name);
-  for (size_t i = 0; i < orbit.size() && orbit.size() < 64; ++i) {
-    for (Transform t : generators) {
-      Eigen::VectorXd next = orbit[i];
-      t(&next);
-      bool seen = false;
-      for (const Eigen::VectorXd& q : orbit) seen = seen || q == next;
-      if (!seen) orbit.push_back(next);
-    }
-  }
-  double best = 0;
-  for (const Eigen::VectorXd& q : orbit) {
-    double lre = certification::kMaxLre;
-    for (size_t j = 0; j < certified.size(); ++j) {
-      lre = std::min(lre, certification::Lre(q[j], certified[j]));
-    }
-    best = std::max(best, lre);
-  }
-  return best;
-}
-
 // NIST StRD nonlinear regression, all 27 problems (tests/data/nist-strd, certified values
 // in index.json), from no start: only the expression and the data go to GuessGeneric, and
 // one RunLocalFit runs from its best candidate.
@@ -294,7 +224,8 @@ TEST_CASE("GuessGeneric: NIST StRD from no start, one local fit from the best ca
     double first = 0, best = 0;
     for (size_t c = 0; c < guess.candidates.size(); ++c) {
       const LocalFitSummary fit = RunLocalFit(problem, guess.candidates[c].parameters, {});
-      const double lre = MinLreModuloSymmetry(nist.name, fit.parameters, nist.certified);
+      const double lre =
+          certification::MinLreModuloSymmetry(nist.name, fit.parameters, nist.certified);
       if (c == 0) first = lre;
       best = std::max(best, lre);
     }
