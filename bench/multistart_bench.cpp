@@ -4,7 +4,7 @@
 // process's processor time per wall second, which say how much of a second core the
 // machine actually gave.
 //
-//   foothold_multistart_bench [--data DIR] [--pairs N] [--starts N]
+//   foothold_multistart_bench [--data DIR] [--pairs N] [--starts N] [--round-size N]
 
 #include <sys/resource.h>
 
@@ -40,12 +40,15 @@ int main(int argc, char** argv) {
   using namespace foothold;
   std::string data_dir = "bench/data";
   int pairs = 3, num_starts = 256;
+  int round_size = MultistartOptions().round_size;
   for (int i = 1; i + 1 < argc; i += 2) {
     const std::string arg = argv[i];
     if (arg == "--data") {
       data_dir = argv[i + 1];
     } else if (arg == "--pairs") {
       pairs = std::max(1, std::atoi(argv[i + 1]));
+    } else if (arg == "--round-size") {
+      round_size = std::max(1, std::atoi(argv[i + 1]));
     } else if (arg == "--starts") {
       num_starts = std::max(1, std::atoi(argv[i + 1]));
     } else {
@@ -85,6 +88,7 @@ int main(int argc, char** argv) {
     options.max_starts = num_starts;
     options.num_threads = threads;
     options.use_stopping_rule = false;
+    options.round_size = round_size;
     const double wall = bench::WallSeconds(), cpu = ProcessCpuSeconds();
     const MultistartSummary summary = RunMultistart(problem, candidates, SearchBox{}, options);
     Run result;
@@ -96,7 +100,7 @@ int main(int argc, char** argv) {
   };
 
   std::printf("multistart: %d starts of P2 (10 parameters, %d points), round size %d\n", num_starts,
-              n, MultistartOptions().round_size);
+              n, round_size);
   std::printf(
       "| pair | 1 thread s | 2 threads s | throughput ratio | cpu/wall 1 thread | "
       "cpu/wall 2 threads | cpu 1 / cpu 2 | load |\n|---|---|---|---|---|---|---|---|\n");

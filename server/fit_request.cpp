@@ -124,6 +124,11 @@ bool ValidateMethodChoices(const FitRequest& request, std::string* error) {
     *error = "method = '" + request.method + "': expected one of " + JoinOptions(kKnownMethods);
     return false;
   }
+  if (!IsOneOf(request.intervals, kKnownIntervals)) {
+    *error = "intervals = '" + request.intervals + "': expected one of " +
+             JoinOptions(kKnownIntervals);
+    return false;
+  }
   if (request.sigma_mode != "" && request.sigma_mode != "absolute" &&
       request.sigma_mode != "relative") {
     *error = "sigma_mode = '" + request.sigma_mode + "': expected absolute or relative";

@@ -38,6 +38,7 @@ struct NamedBounds {
 // Values later work will accept; validation names them so a request is never misread.
 constexpr const char* kKnownLosses[] = {"squared", "soft_l1", "huber", "cauchy", "tukey", "l1"};
 constexpr const char* kKnownMethods[] = {"lm", "gauss_newton", "bfgs"};
+constexpr const char* kKnownIntervals[] = {"wald", "profile"};
 
 // Upper limits a request may ask for (the daemon may set lower ones).
 constexpr int kMaxStarts = 100000;
@@ -77,6 +78,13 @@ struct FitRequest {
   // Local solver limits (foothold extensions of §3b). Defaults as the solver's.
   int max_iterations = 1000;
   int max_evaluations = 4000;
+  // Confidence intervals: "wald" (default, from the covariance) or "profile" (the Wald
+  // intervals and, beside them, profile-likelihood intervals: docs/statistics.md).
+  std::string intervals = "wald";
+  // Model comparison (docs/api.md): when not empty, each of these catalogue families is
+  // fitted to the same data with the same options, ranked by AICc, and the result is the
+  // winner's with the ranking beside it. `model` is then ignored unless it names one too.
+  std::vector<ModelSpec> compare;
 
   // Checks everything that does not need the model built: one model kind, supported
   // loss/method/starts, limits, finite start/fix values, lower <= upper, no name given

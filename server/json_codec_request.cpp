@@ -196,6 +196,40 @@ bool DecodeModel(const Json& value, ModelSpec* out, std::string* error) {
   return true;
 }
 
+// "compare": family names or model objects, e.g. ["gaussian", {"family": "multi_gaussian",
+// "peaks": 2}]. Each entry must name a family (expressions are not compared).
+bool DecodeCompare(const Json& value, std::vector<ModelSpec>* out, std::string* error) {
+  if (!value.is_array() || value.empty()) {
+    *error = "compare: expected a non-empty array of families such as [\"gaussian\", "
+             "\"lorentzian\"], " + Got(value);
+    return false;
+  }
+  out->clear();
+  for (size_t k = 0; k < value.size(); ++k) {
+    const std::string field = "compare[" + std::to_string(k) + "]";
+    ModelSpec spec;
+    if (value[k].is_string()) {
+      spec.family = value[k].get<std::string>();
+    } else if (value[k].is_object()) {
+      std::string model_error;
+      if (!DecodeModel(value[k], &spec, &model_error)) {
+        // DecodeModel names its fields "model.*"; say which entry of compare it was.
+        *error = field + ": " + model_error;
+        return false;
+      }
+    } else {
+      *error = field + ": expected a family name or a model object, " + Got(value[k]);
+      return false;
+    }
+    if (spec.family.empty()) {
+      *error = field + ": expected a catalogue family (expressions are not compared)";
+      return false;
+    }
+    out->push_back(std::move(spec));
+  }
+  return true;
+}
+
 // The scalar options of the request, one key at a time. False when the key is unknown.
 bool DecodeOption(const std::string& key, const Json& item, FitRequest* request, bool* known,
                   std::string* error) {
@@ -208,6 +242,7 @@ bool DecodeOption(const std::string& key, const Json& item, FitRequest* request,
   if (key == "loss") return ExpectString(item, key, &request->loss, error);
   if (key == "loss_scale") return ExpectFiniteNumber(item, key, &request->loss_scale, error);
   if (key == "method") return ExpectString(item, key, &request->method, error);
+  if (key == "intervals") return ExpectString(item, key, &request->intervals, error);
   if (key == "starts") return ExpectInt(item, key, 1, &request->starts, error);
   if (key == "threads") return ExpectInt(item, key, 1, &request->threads, error);
   if (key == "max_iterations") return ExpectInt(item, key, 0, &request->max_iterations, error);
@@ -309,6 +344,8 @@ bool DecodeFitRequest(const Json& document, FitRequest* out, std::string* error)
       ok = DecodeNamedValues(item, "fix", &request.fix, error);
     } else if (key == "bounds") {
       ok = DecodeBounds(item, &request.bounds, error);
+    } else if (key == "compare") {
+      ok = DecodeCompare(item, &request.compare, error);
     } else {
       ok = DecodeOption(key, item, &request, &known, error);
     }
@@ -316,7 +353,7 @@ bool DecodeFitRequest(const Json& document, FitRequest* out, std::string* error)
       *error = key +
                ": unknown field (expected label, model, data, response, sigma_column, start, "
                "fix, bounds, sigma_mode, loss, loss_scale, method, starts, seed, threads, "
-               "deadline_seconds, max_iterations, max_evaluations)";
+               "deadline_seconds, max_iterations, max_evaluations, intervals, compare)";
       return false;
     }
     if (!ok) return false;

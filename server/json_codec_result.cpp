@@ -240,6 +240,16 @@ Json EncodeFitRequest(const FitRequest& request) {
   document["deadline_seconds"] = Number(request.deadline_seconds);
   document["max_iterations"] = request.max_iterations;
   document["max_evaluations"] = request.max_evaluations;
+  document["intervals"] = request.intervals;
+  if (!request.compare.empty()) {
+    Json compare = Json::array();
+    for (const ModelSpec& spec : request.compare) {
+      Json entry = EncodeModel(spec, spec.parameters);
+      entry.erase("parameters");
+      compare.push_back(std::move(entry));
+    }
+    document["compare"] = std::move(compare);
+  }
   return document;
 }
 
