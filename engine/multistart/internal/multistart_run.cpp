@@ -2,6 +2,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <deque>
 #include <limits>
 #include <set>
 #include <sstream>
@@ -19,6 +20,9 @@ constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 constexpr std::uint64_t kShiftStream = ~std::uint64_t{0};
 // Jitter perturbs one of the kJitterBasins best basins, chosen uniformly.
 constexpr int kJitterBasins = 3;
+// Rounds on the pool at once: round r + 1 is planned from the rounds before r, so it can
+// run while r's last starts finish (docs/multistart.md, "Rounds and threads").
+constexpr int kRoundsInFlight = 2;
 // Costs within this share of the weighted total sum of squares compare equal (exact fits).
 constexpr double kCostFloorShare = 1e-12;
 
@@ -43,7 +47,7 @@ MultistartRun::MultistartRun(const Problem& problem, const std::vector<StartCand
       box_(ResolveBox(problem, candidates, box)),
       symmetries_(problem.model->Symmetries()),
       sobol_(std::max(1, problem.NumFree())),
-      pool_(std::min(options.num_threads, options.round_size)) {
+      pool_(std::min(options.num_threads, kRoundsInFlight * options.round_size)) {
   RandomStream shift_stream(options.seed, kShiftStream);
   for (int d = 0; d < sobol_.Dimension(); ++d) {
     sobol_shift_.push_back(static_cast<std::uint32_t>(shift_stream.NextBits() >> 32));
@@ -74,12 +78,13 @@ double MultistartRun::ElapsedSeconds() const {
   return std::chrono::duration<double>(Clock::now() - started_).count();
 }
 
-std::vector<MultistartRun::PlannedStart> MultistartRun::PlanRound(int begin, int end) {
+std::vector<MultistartRun::PlannedStart> MultistartRun::PlanRound(int number, int begin, int end) {
   const int num_candidates = static_cast<int>(candidates_.size());
   std::vector<PlannedStart> round;
   for (int index = begin; index < end; ++index) {
     PlannedStart planned;
     planned.index = index;
+    planned.round = number;
     if (index < num_candidates) {
       planned.origin = candidates_[index].origin;
       planned.start = ClampStart(problem_, box_, candidates_[index].parameters);
@@ -106,8 +111,9 @@ StartRecord MultistartRun::RunStart(const PlannedStart& planned, int worker) {
   const double remaining = options_.deadline_seconds - ElapsedSeconds();
   local.deadline_seconds = std::min(local.deadline_seconds, std::max(remaining, 1e-9));
   const IterationCallback user_callback = options_.local.callback;
-  local.callback = [this, &user_callback](int iteration, double cost) {
-    if (IsCancelled()) return false;
+  const int round = planned.round;
+  local.callback = [this, &user_callback, round](int iteration, double cost) {
+    if (IsCancelled() || IsDiscarded(round)) return false;
     return !user_callback || user_callback(iteration, cost);
   };
   LocalFitOptions fit_options;
@@ -136,29 +142,57 @@ StartRecord MultistartRun::RunStart(const PlannedStart& planned, int worker) {
   return record;
 }
 
-std::vector<MultistartRun::Outcome> MultistartRun::RunRound(
-    const std::vector<PlannedStart>& round) {
-  std::vector<Outcome> outcomes(round.size());
-  pool_.ParallelFor(static_cast<int>(round.size()), [&](int item, int worker) {
-    if (IsCancelled()) {
-      saw_cancel_ = true;
-      return;
-    }
-    if (DeadlinePassed()) {
-      saw_deadline_ = true;
-      return;
-    }
-    outcomes[item].record = RunStart(round[item], worker);
-    outcomes[item].ran = true;
-    std::lock_guard<std::mutex> lock(progress_mutex_);
-    ++num_finished_;
-    const StartRecord& record = outcomes[item].record;
-    if (record.converged && !(record.rss >= best_rss_so_far_)) best_rss_so_far_ = record.rss;
-    if (options_.progress) {
-      options_.progress(num_finished_, summary_.num_starts_planned, best_rss_so_far_);
-    }
-  });
-  return outcomes;
+void MultistartRun::RunItem(const PlannedStart& planned, int worker, Outcome* outcome) {
+  if (IsDiscarded(planned.round)) return;
+  if (IsCancelled()) {
+    saw_cancel_ = true;
+    return;
+  }
+  if (DeadlinePassed()) {
+    saw_deadline_ = true;
+    return;
+  }
+  outcome->record = RunStart(planned, worker);
+  outcome->ran = true;
+  // A fit stopped because its round is discarded is not a finished start.
+  if (IsDiscarded(planned.round)) return;
+  std::lock_guard<std::mutex> lock(progress_mutex_);
+  ++num_finished_;
+  const StartRecord& record = outcome->record;
+  if (record.converged && !(record.rss >= best_rss_so_far_)) best_rss_so_far_ = record.rss;
+  if (options_.progress) {
+    options_.progress(num_finished_, summary_.num_starts_planned, best_rss_so_far_);
+  }
+}
+
+std::unique_ptr<MultistartRun::RoundInFlight> MultistartRun::Dispatch(int number, int begin,
+                                                                      int end) {
+  auto round = std::make_unique<RoundInFlight>();
+  round->number = number;
+  round->end = end;
+  round->starts = PlanRound(number, begin, end);
+  round->outcomes.resize(round->starts.size());
+  RoundInFlight* raw = round.get();
+  round->batch =
+      pool_.Submit(static_cast<int>(raw->starts.size()), [this, raw](int item, int worker) {
+        RunItem(raw->starts[item], worker, &raw->outcomes[item]);
+      });
+  return round;
+}
+
+void MultistartRun::Absorb(RoundInFlight* round) {
+  pool_.Wait(round->batch);
+  ++summary_.num_rounds;
+  for (const Outcome& outcome : round->outcomes) {
+    if (outcome.ran) summary_.starts.push_back(outcome.record);
+  }
+  UpdateBasins();
+}
+
+void MultistartRun::Discard(RoundInFlight* round) {
+  first_discarded_round_ = std::min(first_discarded_round_.load(), round->number);
+  pool_.Drop(round->batch);
+  pool_.Wait(round->batch);
 }
 
 namespace {
@@ -185,7 +219,7 @@ void MultistartRun::UpdateBasins() {
     auto canonical = canonical_by_start_.find(record.index);
     if (canonical == canonical_by_start_.end()) {
       canonical =
-          canonical_by_start_.emplace(record.index, Canonicalize(record.end, symmetries_)).first;
+          canonical_by_start_.emplace(record.index, Canonicalize(problem_, record.end)).first;
     }
     points.push_back({record.index, record.rss, canonical->second});
     record_of_point.push_back(static_cast<int>(r));
@@ -209,7 +243,9 @@ void MultistartRun::UpdateBasins() {
     }
     return found->second.first;
   };
-  const std::vector<Cluster> clusters = ClusterEndPoints(points, tolerances, errors_of_leader);
+  auto curve_of = [&](int position) { return WeightedCurve(problem_, points[position].canonical); };
+  const std::vector<Cluster> clusters =
+      ClusterEndPoints(points, tolerances, errors_of_leader, curve_of);
 
   summary_.basins.clear();
   for (size_t c = 0; c < clusters.size(); ++c) {
@@ -279,31 +315,48 @@ MultistartSummary MultistartRun::Execute() {
   std::ostringstream message;
   summary_.stop = MultistartStop::kBudget;
 
-  int begin = 0;
-  while (begin < planned) {
+  // Rounds are planned, dispatched and absorbed in order on this thread. Round r + 2 is
+  // planned once round r is absorbed, so round r + 1 keeps the workers busy meanwhile: a
+  // round's content depends on every round but the one just before it, never on timing.
+  std::deque<std::unique_ptr<RoundInFlight>> in_flight;
+  int next_begin = 0, next_number = 0;
+  auto dispatch_next = [&] {
+    if (next_begin >= planned || saw_cancel_ || saw_deadline_) return;
+    const int end = std::min(next_begin + options_.round_size, planned);
+    in_flight.push_back(Dispatch(next_number++, next_begin, end));
+    next_begin = end;
+  };
+  if (IsCancelled()) saw_cancel_ = true;
+  if (DeadlinePassed()) saw_deadline_ = true;
+  while (static_cast<int>(in_flight.size()) < kRoundsInFlight && next_begin < planned) {
+    dispatch_next();
+    if (in_flight.empty()) break;
+  }
+  while (!in_flight.empty()) {
+    Absorb(in_flight.front().get());
+    const int absorbed_end = in_flight.front()->end;
+    in_flight.pop_front();
     if (IsCancelled()) saw_cancel_ = true;
     if (DeadlinePassed()) saw_deadline_ = true;
-    if (saw_cancel_ || saw_deadline_) break;
-    const int end = std::min(begin + options_.round_size, planned);
-    const std::vector<Outcome> outcomes = RunRound(PlanRound(begin, end));
-    ++summary_.num_rounds;
-    for (const Outcome& outcome : outcomes) {
-      if (outcome.ran) summary_.starts.push_back(outcome.record);
-    }
-    UpdateBasins();
-    begin = end;
-    if (saw_cancel_ || saw_deadline_ || begin >= planned) break;
-    // Boender & Rinnooy Kan (1987): only at round boundaries, after every candidate ran.
-    if (options_.use_stopping_rule && begin >= num_candidates) {
+    // Cancelled or past the deadline: the rounds in flight end quickly (their unstarted
+    // starts are skipped) and what they completed is kept, as in a round cut short.
+    if (saw_cancel_ || saw_deadline_) continue;
+    if (absorbed_end >= planned) break;
+    // Boender & Rinnooy Kan (1987): only at round boundaries, after every candidate ran,
+    // on the absorbed rounds only. The round in flight is discarded, whatever it holds.
+    if (options_.use_stopping_rule && absorbed_end >= num_candidates) {
       const StoppingRuleEstimate estimate = EstimateFromSobolStarts();
       if (ShouldStop(estimate, options_.stopping_threshold)) {
         summary_.stop = MultistartStop::kStoppingRule;
         message << "expected unseen basins " << estimate.expected_unseen_minima << " < "
                 << options_.stopping_threshold << " after " << estimate.num_searches
                 << " converged Sobol starts in " << estimate.num_minima << " basins";
+        for (const auto& round : in_flight) Discard(round.get());
+        in_flight.clear();
         break;
       }
     }
+    dispatch_next();
   }
   const int num_run = static_cast<int>(summary_.starts.size());
   if (saw_cancel_) {

@@ -4,6 +4,7 @@
 #include <Eigen/Core>
 #include <atomic>
 #include <chrono>
+#include <limits>
 #include <map>
 #include <memory>
 #include <mutex>
@@ -32,6 +33,7 @@ class MultistartRun {
  private:
   struct PlannedStart {
     int index = 0;
+    int round = 0;
     std::string origin;
     Eigen::VectorXd start;
   };
@@ -40,18 +42,38 @@ class MultistartRun {
     bool ran = false;
     StartRecord record;
   };
+  // A round on the pool: its starts, their outcomes (index order) and the pool's batch.
+  struct RoundInFlight {
+    int number = 0;
+    int end = 0;  // one past its last start index
+    std::vector<PlannedStart> starts;
+    std::vector<Outcome> outcomes;
+    int batch = 0;
+  };
 
   // The starts of indices [begin, end): candidates, then Sobol points and jitter whose
-  // content depends only on the basins of earlier rounds.
-  std::vector<PlannedStart> PlanRound(int begin, int end);
-  // Runs a round on the pool; outcomes in index order.
-  std::vector<Outcome> RunRound(const std::vector<PlannedStart>& round);
+  // content depends only on the basins of the rounds absorbed so far.
+  std::vector<PlannedStart> PlanRound(int number, int begin, int end);
+  // Plans round `number` from [begin, end) and queues it on the pool.
+  std::unique_ptr<RoundInFlight> Dispatch(int number, int begin, int end);
+  // Waits for `round`, appends the starts that ran (index order) to the summary and
+  // re-clusters.
+  void Absorb(RoundInFlight* round);
+  // Drops `round`'s unstarted items, stops its running fits and waits for them; nothing of
+  // it reaches the summary.
+  void Discard(RoundInFlight* round);
+  // One start on `worker`; skipped (ran = false) once cancelled, past the deadline or when
+  // its round is discarded.
+  void RunItem(const PlannedStart& planned, int worker, Outcome* outcome);
   StartRecord RunStart(const PlannedStart& planned, int worker);
   // Re-clusters every converged start and sets summary_.basins and the records' basin ids.
   void UpdateBasins();
   StoppingRuleEstimate EstimateFromSobolStarts() const;
   void FillVerdict();
 
+  bool IsDiscarded(int round) const {
+    return round >= first_discarded_round_.load(std::memory_order_relaxed);
+  }
   // Whether generated start `ordinal` (counted after the candidates) perturbs a basin.
   bool IsJitterSlot(int ordinal) const;
   bool IsCancelled() const;
@@ -69,9 +91,10 @@ class MultistartRun {
   std::uint64_t num_sobol_planned_ = 0;
   double total_weighted_squares_ = 0;
 
-  ThreadPool pool_;
   std::vector<std::unique_ptr<Model>> worker_models_;
   std::vector<Problem> worker_problems_;
+  // After the workers' models and problems, so that its threads are joined first.
+  ThreadPool pool_;
 
   // Progress, shared by the workers.
   std::mutex progress_mutex_;
@@ -79,6 +102,8 @@ class MultistartRun {
   double best_rss_so_far_ = 0;
   std::atomic<bool> saw_cancel_{false};
   std::atomic<bool> saw_deadline_{false};
+  // Rounds numbered this or higher are being discarded (the stopping rule fired).
+  std::atomic<int> first_discarded_round_{std::numeric_limits<int>::max()};
 
   // Standard errors at each basin representative, by start index, computed once.
   std::map<int, std::pair<Eigen::VectorXd, bool>> errors_by_start_;

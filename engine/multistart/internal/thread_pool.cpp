@@ -1,5 +1,8 @@
 #include "engine/multistart/internal/thread_pool.h"
 
+#include <cassert>
+#include <utility>
+
 namespace foothold {
 namespace internal {
 
@@ -14,58 +17,79 @@ ThreadPool::~ThreadPool() {
   {
     std::lock_guard<std::mutex> lock(mutex_);
     stopping_ = true;
+    for (auto& entry : batches_) entry.second.next = entry.second.count;
   }
-  batch_ready_.notify_all();
+  work_ready_.notify_all();
   for (std::thread& thread : threads_) thread.join();
 }
 
-void ThreadPool::ParallelFor(int count, const std::function<void(int, int)>& task) {
-  if (count <= 0) return;
+int ThreadPool::Submit(int count, Task task) {
+  int id;
   {
     std::lock_guard<std::mutex> lock(mutex_);
-    task_ = &task;
-    count_ = count;
-    next_item_ = 0;
-    unfinished_ = count;
-    ++generation_;
+    id = next_id_++;
+    Batch& batch = batches_[id];
+    batch.task = std::move(task);
+    batch.count = count < 0 ? 0 : count;
+    batch.unfinished = batch.count;
   }
-  batch_ready_.notify_all();
-  RunItems(0);
-  std::unique_lock<std::mutex> lock(mutex_);
-  batch_done_.wait(lock, [this] { return unfinished_ == 0; });
-  task_ = nullptr;
+  work_ready_.notify_all();
+  return id;
 }
 
-void ThreadPool::RunItems(int worker) {
-  while (true) {
-    int item;
-    const std::function<void(int, int)>* task;
-    {
-      std::lock_guard<std::mutex> lock(mutex_);
-      if (task_ == nullptr || next_item_ >= count_) return;
-      item = next_item_++;
-      task = task_;
+void ThreadPool::Drop(int id) {
+  std::lock_guard<std::mutex> lock(mutex_);
+  auto found = batches_.find(id);
+  assert(found != batches_.end());
+  Batch& batch = found->second;
+  batch.unfinished -= batch.count - batch.next;
+  batch.next = batch.count;
+  if (batch.unfinished == 0) item_done_.notify_all();
+}
+
+void ThreadPool::Wait(int id) {
+  std::unique_lock<std::mutex> lock(mutex_);
+  auto found = batches_.find(id);
+  assert(found != batches_.end());
+  const Batch& batch = found->second;
+  while (batch.unfinished > 0) {
+    const Item item = TakeItem();
+    if (item.task != nullptr) {
+      RunItem(item, 0, &lock);
+    } else {
+      item_done_.wait(lock);
     }
-    (*task)(item, worker);
-    bool last = false;
-    {
-      std::lock_guard<std::mutex> lock(mutex_);
-      last = (--unfinished_ == 0);
-    }
-    if (last) batch_done_.notify_all();
   }
+  batches_.erase(found);
+}
+
+ThreadPool::Item ThreadPool::TakeItem() {
+  for (auto& entry : batches_) {
+    Batch& batch = entry.second;
+    if (batch.next < batch.count) return {&batch.task, &batch, batch.next++};
+  }
+  return {};
+}
+
+void ThreadPool::RunItem(const Item& item, int worker, std::unique_lock<std::mutex>* lock) {
+  // std::map nodes do not move, and a batch is erased only by its Wait, which cannot
+  // return while this item is unfinished: the pointers stay valid without the lock.
+  lock->unlock();
+  (*item.task)(item.index, worker);
+  lock->lock();
+  if (--item.batch->unfinished == 0) item_done_.notify_all();
 }
 
 void ThreadPool::WorkerLoop(int worker) {
-  long seen_generation = 0;
+  std::unique_lock<std::mutex> lock(mutex_);
   while (true) {
-    {
-      std::unique_lock<std::mutex> lock(mutex_);
-      batch_ready_.wait(lock, [&] { return stopping_ || generation_ != seen_generation; });
-      if (stopping_) return;
-      seen_generation = generation_;
+    const Item item = TakeItem();
+    if (item.task != nullptr) {
+      RunItem(item, worker, &lock);
+      continue;
     }
-    RunItems(worker);
+    if (stopping_) return;
+    work_ready_.wait(lock);
   }
 }
 
