@@ -219,7 +219,7 @@ void MultistartRun::UpdateBasins() {
     auto canonical = canonical_by_start_.find(record.index);
     if (canonical == canonical_by_start_.end()) {
       canonical =
-          canonical_by_start_.emplace(record.index, Canonicalize(problem_, record.end)).first;
+          canonical_by_start_.emplace(record.index, Canonicalize(record.end, symmetries_)).first;
     }
     points.push_back({record.index, record.rss, canonical->second});
     record_of_point.push_back(static_cast<int>(r));
@@ -243,9 +243,7 @@ void MultistartRun::UpdateBasins() {
     }
     return found->second.first;
   };
-  auto curve_of = [&](int position) { return WeightedCurve(problem_, points[position].canonical); };
-  const std::vector<Cluster> clusters =
-      ClusterEndPoints(points, tolerances, errors_of_leader, curve_of);
+  const std::vector<Cluster> clusters = ClusterEndPoints(points, tolerances, errors_of_leader);
 
   summary_.basins.clear();
   for (size_t c = 0; c < clusters.size(); ++c) {
