@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "engine/model/families/internal/canonical_forms.h"
 #include "engine/model/families/internal/logistic.h"
 
 namespace foothold {
@@ -15,6 +16,11 @@ Logistic4Model::Logistic4Model() : FamilyModel({"bottom", "top", "log_ec50", "hi
 
 std::unique_ptr<Model> Logistic4Model::Clone() const {
   return std::make_unique<Logistic4Model>(*this);
+}
+
+void Logistic4Model::CanonicalizeParameters(double* params, const double* lower,
+                                            const double* upper) const {
+  family_math::CanonicalizePlateaus(0, 1, 3, lower, upper, params);
 }
 
 void Logistic4Model::Compute(const double* x, int n, const double* params, double* values,

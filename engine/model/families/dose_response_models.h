@@ -11,10 +11,14 @@ namespace foothold {
 
 // logistic4: bottom + (top-bottom)/(1 + 10^((log_ec50 - x)*hill)).
 // Parameters: bottom, top, log_ec50, hill. hill > 0 rises from bottom to top with x.
+// Symmetry: (bottom, top, hill) ~ (top, bottom, -hill); canonical top >= bottom, so the
+// sign of hill gives the direction of the curve (negative: inhibition).
 class Logistic4Model final : public FamilyModel {
  public:
   Logistic4Model();
   std::vector<int> LinearParameters() const override { return {0, 1}; }
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:

@@ -2,6 +2,8 @@
 
 #include <cmath>
 
+#include "engine/model/families/internal/canonical_forms.h"
+
 namespace foothold {
 namespace {
 
@@ -12,6 +14,11 @@ constexpr double kTwoPi = 6.28318530717958647693;
 SineModel::SineModel() : FamilyModel({"amplitude", "frequency", "phase", "baseline"}) {}
 
 std::unique_ptr<Model> SineModel::Clone() const { return std::make_unique<SineModel>(*this); }
+
+void SineModel::CanonicalizeParameters(double* params, const double* lower,
+                                       const double* upper) const {
+  family_math::CanonicalizeOscillation(0, 1, 2, lower, upper, params);
+}
 
 void SineModel::Compute(const double* x, int n, const double* params, double* values,
                         double* jacobian) const {
@@ -44,6 +51,11 @@ DampedSineModel::DampedSineModel()
 
 std::unique_ptr<Model> DampedSineModel::Clone() const {
   return std::make_unique<DampedSineModel>(*this);
+}
+
+void DampedSineModel::CanonicalizeParameters(double* params, const double* lower,
+                                             const double* upper) const {
+  family_math::CanonicalizeOscillation(0, 2, 3, lower, upper, params);
 }
 
 void DampedSineModel::Compute(const double* x, int n, const double* params, double* values,

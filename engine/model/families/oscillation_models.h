@@ -1,7 +1,9 @@
 #pragma once
 // Oscillation families: sine and damped_sine, with the frequency in cycles per unit of x.
-// Besides permutations these have symmetries the PermutationSymmetry type cannot state:
-// phase + 2*pi is the same curve, and (amplitude, phase) ~ (-amplitude, phase + pi).
+// Their symmetries are not permutations: phase + 2*pi is the same curve, (amplitude, phase)
+// ~ (-amplitude, phase + pi) and (amplitude, frequency, phase) ~ (-amplitude, -frequency,
+// -phase). CanonicalizeParameters picks frequency >= 0, amplitude >= 0 and the phase in
+// [-pi, pi) (or the first 2*pi inside narrower bounds).
 
 #include <memory>
 #include <vector>
@@ -16,6 +18,8 @@ class SineModel final : public FamilyModel {
  public:
   SineModel();
   std::vector<int> LinearParameters() const override { return {0, 3}; }
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:
@@ -29,6 +33,8 @@ class DampedSineModel final : public FamilyModel {
  public:
   DampedSineModel();
   std::vector<int> LinearParameters() const override { return {0, 4}; }
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:

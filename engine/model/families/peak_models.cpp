@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cmath>
 
+#include "engine/model/families/internal/canonical_forms.h"
 #include "engine/model/families/internal/vector_exp.h"
 
 namespace foothold {
@@ -91,6 +92,14 @@ std::vector<PermutationSymmetry> PeakSymmetries(int num_peaks) {
   return {symmetry};
 }
 
+// Every peak's width (height, center, width) enters squared.
+void CanonicalizePeakWidths(int num_peaks, const double* lower, const double* upper,
+                            double* params) {
+  for (int peak = 0; peak < num_peaks; ++peak) {
+    family_math::CanonicalizeEvenSign(kPeakSize * peak + 2, lower, upper, params);
+  }
+}
+
 using PeakKernel = void (*)(const double*, int, double, double, double, double*, double*, double*,
                             double*);
 
@@ -123,6 +132,11 @@ std::unique_ptr<Model> GaussianModel::Clone() const {
   return std::make_unique<GaussianModel>(*this);
 }
 
+void GaussianModel::CanonicalizeParameters(double* params, const double* lower,
+                                           const double* upper) const {
+  CanonicalizePeakWidths(1, lower, upper, params);
+}
+
 void GaussianModel::Compute(const double* x, int n, const double* params, double* values,
                             double* jacobian) const {
   if (!ComputePeakSum(AddGaussianPeak, 1, x, n, params, values, jacobian)) {
@@ -134,6 +148,11 @@ LorentzianModel::LorentzianModel() : FamilyModel({"height", "center", "hwhm", "b
 
 std::unique_ptr<Model> LorentzianModel::Clone() const {
   return std::make_unique<LorentzianModel>(*this);
+}
+
+void LorentzianModel::CanonicalizeParameters(double* params, const double* lower,
+                                             const double* upper) const {
+  CanonicalizePeakWidths(1, lower, upper, params);
 }
 
 void LorentzianModel::Compute(const double* x, int n, const double* params, double* values,
@@ -148,6 +167,11 @@ PseudoVoigtModel::PseudoVoigtModel()
 
 std::unique_ptr<Model> PseudoVoigtModel::Clone() const {
   return std::make_unique<PseudoVoigtModel>(*this);
+}
+
+void PseudoVoigtModel::CanonicalizeParameters(double* params, const double* lower,
+                                              const double* upper) const {
+  family_math::CanonicalizeEvenSign(2, lower, upper, params);
 }
 
 void PseudoVoigtModel::Compute(const double* x, int n, const double* params, double* values,
@@ -209,6 +233,11 @@ std::unique_ptr<Model> MultiGaussianModel::Clone() const {
   return std::make_unique<MultiGaussianModel>(*this);
 }
 
+void MultiGaussianModel::CanonicalizeParameters(double* params, const double* lower,
+                                                const double* upper) const {
+  CanonicalizePeakWidths(num_peaks_, lower, upper, params);
+}
+
 void MultiGaussianModel::Compute(const double* x, int n, const double* params, double* values,
                                  double* jacobian) const {
   if (!ComputePeakSum(AddGaussianPeak, num_peaks_, x, n, params, values, jacobian)) {
@@ -230,6 +259,11 @@ std::vector<PermutationSymmetry> MultiLorentzianModel::Symmetries() const {
 
 std::unique_ptr<Model> MultiLorentzianModel::Clone() const {
   return std::make_unique<MultiLorentzianModel>(*this);
+}
+
+void MultiLorentzianModel::CanonicalizeParameters(double* params, const double* lower,
+                                                  const double* upper) const {
+  CanonicalizePeakWidths(num_peaks_, lower, upper, params);
 }
 
 void MultiLorentzianModel::Compute(const double* x, int n, const double* params, double* values,

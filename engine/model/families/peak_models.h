@@ -19,6 +19,8 @@ class GaussianModel final : public FamilyModel {
  public:
   GaussianModel();
   std::vector<int> LinearParameters() const override { return {0, 3}; }
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:
@@ -32,6 +34,8 @@ class LorentzianModel final : public FamilyModel {
  public:
   LorentzianModel();
   std::vector<int> LinearParameters() const override { return {0, 3}; }
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:
@@ -46,6 +50,8 @@ class PseudoVoigtModel final : public FamilyModel {
  public:
   PseudoVoigtModel();
   std::vector<int> LinearParameters() const override { return {0, 4}; }
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:
@@ -62,6 +68,8 @@ class MultiGaussianModel final : public FamilyModel {
   int NumPeaks() const { return num_peaks_; }
   std::vector<int> LinearParameters() const override;
   std::vector<PermutationSymmetry> Symmetries() const override;
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:
@@ -81,6 +89,8 @@ class MultiLorentzianModel final : public FamilyModel {
   int NumPeaks() const { return num_peaks_; }
   std::vector<int> LinearParameters() const override;
   std::vector<PermutationSymmetry> Symmetries() const override;
+  void CanonicalizeParameters(double* params, const double* lower,
+                              const double* upper) const override;
   std::unique_ptr<Model> Clone() const override;
 
  protected:

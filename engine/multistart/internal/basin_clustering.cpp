@@ -3,6 +3,7 @@
 #include <algorithm>
 #include <cassert>
 #include <cmath>
+#include <limits>
 #include <numeric>
 
 namespace foothold {
@@ -22,6 +23,13 @@ namespace {
     }
   }
   return true;
+}
+
+bool SameCost(const EndPoint& leader, const EndPoint& point, const BasinTolerances& tolerances) {
+  const double cost_gap = std::abs(point.rss - leader.rss);
+  const double cost_limit =
+      tolerances.cost_relative * std::max(point.rss, leader.rss) + tolerances.cost_absolute;
+  return cost_gap <= cost_limit;
 }
 
 }  // namespace
@@ -56,12 +64,43 @@ Eigen::VectorXd Canonicalize(const Eigen::VectorXd& params,
   return canonical;
 }
 
+Eigen::VectorXd Canonicalize(const Problem& problem, const Eigen::VectorXd& params) {
+  const int p = problem.NumParameters();
+  assert(params.size() == p);
+  Eigen::VectorXd canonical = params;
+  Eigen::VectorXd lower(p);
+  Eigen::VectorXd upper(p);
+  for (int j = 0; j < p; ++j) {
+    // A fixed parameter may not move: its bounds collapse onto its value.
+    lower[j] = problem.IsFixed(j) ? params[j] : problem.Lower(j);
+    upper[j] = problem.IsFixed(j) ? params[j] : problem.Upper(j);
+  }
+  problem.model->CanonicalizeParameters(canonical.data(), lower.data(), upper.data());
+  // The hook must keep the point inside the bounds; if a model breaks that rule the raw
+  // point is kept, so that basins never report parameters outside the problem.
+  for (int j = 0; j < p; ++j) {
+    const bool moved_bad = !(canonical[j] >= lower[j] && canonical[j] <= upper[j]) &&
+                           (params[j] >= lower[j] && params[j] <= upper[j]);
+    if (moved_bad || (std::isfinite(params[j]) && !std::isfinite(canonical[j]))) {
+      canonical = params;
+      break;
+    }
+  }
+  return Canonicalize(canonical, problem.model->Symmetries());
+}
+
+Eigen::VectorXd WeightedCurve(const Problem& problem, const Eigen::VectorXd& params) {
+  const Eigen::Index n = problem.data.NumPoints();
+  Eigen::VectorXd values = Eigen::VectorXd::Constant(n, std::numeric_limits<double>::quiet_NaN());
+  problem.model->Evaluate(problem.data.predictors, params.data(), values.data());
+  if (problem.data.HasSigma()) values.array() /= problem.data.sigma.array();
+  if (!values.allFinite()) return Eigen::VectorXd();
+  return values;
+}
+
 bool SameBasin(const EndPoint& leader, const Eigen::VectorXd& leader_errors, const EndPoint& point,
                const BasinTolerances& tolerances) {
-  const double cost_gap = std::abs(point.rss - leader.rss);
-  const double cost_limit =
-      tolerances.cost_relative * std::max(point.rss, leader.rss) + tolerances.cost_absolute;
-  if (!(cost_gap <= cost_limit)) return false;
+  if (!SameCost(leader, point, tolerances)) return false;
   for (Eigen::Index j = 0; j < point.canonical.size(); ++j) {
     if (!tolerances.is_free.empty() && !tolerances.is_free[j]) continue;
     const double a = leader.canonical[j];
@@ -77,15 +116,43 @@ bool SameBasin(const EndPoint& leader, const Eigen::VectorXd& leader_errors, con
   return true;
 }
 
+bool SameCurve(const EndPoint& leader, const Eigen::VectorXd& leader_curve, const EndPoint& point,
+               const Eigen::VectorXd& point_curve, const BasinTolerances& tolerances) {
+  const Eigen::Index n = leader_curve.size();
+  if (!(tolerances.curve_relative > 0) || n == 0 || point_curve.size() != n) return false;
+  if (!SameCost(leader, point, tolerances)) return false;
+  // The noise scale of the fit, floored like the cost so that exact fits compare equal.
+  const double rss = std::max({leader.rss, point.rss, tolerances.cost_absolute});
+  const double limit = tolerances.curve_relative * std::sqrt(rss / static_cast<double>(n));
+  return (leader_curve - point_curve).cwiseAbs().maxCoeff() <= limit;
+}
+
 std::vector<Cluster> ClusterEndPoints(
     const std::vector<EndPoint>& points, const BasinTolerances& tolerances,
     const std::function<Eigen::VectorXd(int position)>& leader_errors) {
+  return ClusterEndPoints(points, tolerances, leader_errors, nullptr);
+}
+
+std::vector<Cluster> ClusterEndPoints(
+    const std::vector<EndPoint>& points, const BasinTolerances& tolerances,
+    const std::function<Eigen::VectorXd(int position)>& leader_errors,
+    const std::function<Eigen::VectorXd(int position)>& curves) {
   std::vector<int> order(points.size());
   std::iota(order.begin(), order.end(), 0);
   std::sort(order.begin(), order.end(), [&](int a, int b) {
     if (points[a].rss != points[b].rss) return points[a].rss < points[b].rss;
     return points[a].start_index < points[b].start_index;
   });
+  // Curves are computed on first use and kept for this call.
+  std::vector<Eigen::VectorXd> curve_cache(points.size());
+  std::vector<bool> has_curve(points.size(), false);
+  auto curve_of = [&](int position) -> const Eigen::VectorXd& {
+    if (!has_curve[position]) {
+      curve_cache[position] = curves(position);
+      has_curve[position] = true;
+    }
+    return curve_cache[position];
+  };
   std::vector<Cluster> clusters;
   std::vector<Eigen::VectorXd> errors;
   std::vector<double> leader_rss;  // increasing, since points arrive in increasing rss
@@ -97,10 +164,12 @@ std::vector<Cluster> ClusterEndPoints(
     size_t c = std::lower_bound(leader_rss.begin(), leader_rss.end(), lowest) - leader_rss.begin();
     bool joined = false;
     for (; c < clusters.size() && !joined; ++c) {
-      if (SameBasin(points[clusters[c].leader], errors[c], points[position], tolerances)) {
-        clusters[c].members.push_back(position);
-        joined = true;
-      }
+      const int leader = clusters[c].leader;
+      joined = SameBasin(points[leader], errors[c], points[position], tolerances) ||
+               (curves && SameCost(points[leader], points[position], tolerances) &&
+                SameCurve(points[leader], curve_of(leader), points[position], curve_of(position),
+                          tolerances));
+      if (joined) clusters[c].members.push_back(position);
     }
     if (joined) continue;
     clusters.push_back(Cluster{position, {position}});
