@@ -1,9 +1,10 @@
 #include "engine/solve/bfgs.h"
 
 #include <algorithm>
-#include <chrono>
 #include <cmath>
 #include <sstream>
+
+#include "engine/solve/internal/line_search.h"
 
 namespace foothold {
 namespace {
@@ -23,16 +24,6 @@ struct LinePoint {
   Eigen::VectorXd gradient;
   bool finite = false;
 };
-
-// Zeroes the components of `g` held at a bound (the gradient pushes out of the box there).
-Eigen::VectorXd ProjectedGradient(const Eigen::VectorXd& x, const Eigen::VectorXd& g,
-                                  const Eigen::VectorXd& lower, const Eigen::VectorXd& upper) {
-  Eigen::VectorXd pg = g;
-  for (int i = 0; i < x.size(); ++i) {
-    if ((x[i] <= lower[i] && g[i] > 0) || (x[i] >= upper[i] && g[i] < 0)) pg[i] = 0;
-  }
-  return pg;
-}
 
 class LineSearch {
  public:
@@ -83,8 +74,7 @@ class LineSearch {
   LinePoint Evaluate(double alpha) {
     LinePoint point;
     point.alpha = alpha;
-    Eigen::VectorXd trial = x_ + alpha * d_;
-    trial = trial.cwiseMax(lower_).cwiseMin(upper_);
+    const Eigen::VectorXd trial = internal::ProjectOntoBox(x_ + alpha * d_, lower_, upper_);
     ++*num_evaluations_;
     point.finite = objective_(trial, &point.value, &point.gradient) && std::isfinite(point.value) &&
                    point.gradient.allFinite();
@@ -146,17 +136,6 @@ class LineSearch {
   int* num_evaluations_;
 };
 
-// Largest alpha with x + alpha d inside the box.
-double MaxStep(const Eigen::VectorXd& x, const Eigen::VectorXd& d, const Eigen::VectorXd& lower,
-               const Eigen::VectorXd& upper) {
-  double alpha = kInf;
-  for (int i = 0; i < x.size(); ++i) {
-    if (d[i] > 0) alpha = std::min(alpha, (upper[i] - x[i]) / d[i]);
-    if (d[i] < 0) alpha = std::min(alpha, (lower[i] - x[i]) / d[i]);
-  }
-  return std::max(alpha, 0.0);
-}
-
 double GradientMeasure(const Eigen::VectorXd& x, const Eigen::VectorXd& pg) {
   double largest = 0;
   for (int i = 0; i < x.size(); ++i) {
@@ -169,22 +148,14 @@ double GradientMeasure(const Eigen::VectorXd& x, const Eigen::VectorXd& pg) {
 
 bool BfgsOptions::Validate(std::string* error) const {
   std::ostringstream out;
-  if (max_iterations < 0) {
-    out << "max_iterations = " << max_iterations << ": must be >= 0";
-  } else if (max_evaluations < 1) {
-    out << "max_evaluations = " << max_evaluations << ": must be >= 1";
-  } else if (!(cost_tolerance >= 0)) {
-    out << "cost_tolerance = " << cost_tolerance << ": must be >= 0";
-  } else if (!(step_tolerance >= 0)) {
-    out << "step_tolerance = " << step_tolerance << ": must be >= 0";
-  } else if (!(gradient_tolerance >= 0)) {
-    out << "gradient_tolerance = " << gradient_tolerance << ": must be >= 0";
-  } else if (!(wolfe_c1 > 0 && wolfe_c1 < wolfe_c2 && wolfe_c2 < 1)) {
+  auto wolfe_rule_broken = [&] {
+    if (wolfe_c1 > 0 && wolfe_c1 < wolfe_c2 && wolfe_c2 < 1) return false;
     out << "wolfe_c1 = " << wolfe_c1 << ", wolfe_c2 = " << wolfe_c2
         << ": must satisfy 0 < wolfe_c1 < wolfe_c2 < 1";
-  } else if (!(deadline_seconds > 0)) {
-    out << "deadline_seconds = " << deadline_seconds << ": must be > 0";
-  } else {
+    return true;
+  };
+  if (!internal::SharedRuleBroken(*this, &out) && !wolfe_rule_broken() &&
+      !internal::DeadlineRuleBroken(deadline_seconds, &out)) {
     return true;
   }
   if (error != nullptr) *error = out.str();
@@ -195,11 +166,7 @@ BfgsOptions BfgsOptionsFrom(const LevenbergMarquardtOptions& lm) {
   BfgsOptions options;
   options.max_iterations = std::max(lm.max_iterations, 2 * lm.max_iterations);
   options.max_evaluations = std::max(lm.max_evaluations, 2 * lm.max_evaluations);
-  options.cost_tolerance = lm.cost_tolerance;
-  options.step_tolerance = lm.step_tolerance;
-  options.gradient_tolerance = lm.gradient_tolerance;
-  options.deadline_seconds = lm.deadline_seconds;
-  options.callback = lm.callback;
+  internal::CopySharedFields(lm, &options);
   return options;
 }
 
@@ -207,13 +174,10 @@ BfgsSummary MinimizeBfgs(const SmoothObjective& objective, const Eigen::VectorXd
                          const Eigen::VectorXd& lower, const Eigen::VectorXd& upper,
                          const Eigen::MatrixXd& initial_inverse_hessian,
                          const BfgsOptions& options) {
-  const auto started = std::chrono::steady_clock::now();
-  auto elapsed = [&started] {
-    return std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
-  };
+  const internal::Stopwatch stopwatch;
   const int n = static_cast<int>(start.size());
   BfgsSummary summary;
-  summary.x = start.cwiseMax(lower).cwiseMin(upper);
+  summary.x = internal::ProjectOntoBox(start, lower, upper);
   std::ostringstream message;
   message << "bfgs: ";
   double value = kInf;
@@ -241,9 +205,14 @@ BfgsSummary MinimizeBfgs(const SmoothObjective& objective, const Eigen::VectorXd
   reset(&h, 1.0 / std::max(gradient.lpNorm<Eigen::Infinity>(), 1e-300));
   bool just_reset = true;
   Eigen::VectorXd& x = summary.x;
+  internal::IterationLimits limits;
+  limits.max_iterations = options.max_iterations;
+  limits.max_evaluations = options.max_evaluations;
+  limits.deadline_seconds = options.deadline_seconds;
+  limits.callback = &options.callback;
 
   while (true) {
-    const Eigen::VectorXd pg = ProjectedGradient(x, gradient, lower, upper);
+    const Eigen::VectorXd pg = internal::ProjectedGradient(x, gradient, lower, upper);
     const double measure = GradientMeasure(x, pg);
     if (measure <= options.gradient_tolerance * std::abs(value)) {
       summary.termination = Termination::kGradientConverged;
@@ -251,24 +220,9 @@ BfgsSummary MinimizeBfgs(const SmoothObjective& objective, const Eigen::VectorXd
               << " * |f|";
       break;
     }
-    if (summary.num_iterations >= options.max_iterations) {
-      summary.termination = Termination::kIterationLimit;
-      message << "iteration limit " << options.max_iterations;
-      break;
-    }
-    if (summary.num_evaluations >= options.max_evaluations) {
-      summary.termination = Termination::kEvaluationLimit;
-      message << "evaluation limit " << options.max_evaluations;
-      break;
-    }
-    if (elapsed() > options.deadline_seconds) {
-      summary.termination = Termination::kDeadline;
-      message << "deadline " << options.deadline_seconds << " s";
-      break;
-    }
-    if (options.callback && !options.callback(summary.num_iterations, value)) {
-      summary.termination = Termination::kCancelled;
-      message << "cancelled at iteration " << summary.num_iterations;
+    if (internal::IterationLimitReached(limits, summary.num_iterations, summary.num_evaluations,
+                                        value, stopwatch.ElapsedSeconds(), &summary.termination,
+                                        &message)) {
       break;
     }
     ++summary.num_iterations;
@@ -288,7 +242,7 @@ BfgsSummary MinimizeBfgs(const SmoothObjective& objective, const Eigen::VectorXd
       if (!(d.dot(pg) < 0)) d = -pg;
     }
     const bool fresh_direction = just_reset;  // this step comes from the initial matrix
-    const double alpha_max = MaxStep(x, d, lower, upper);
+    const double alpha_max = internal::MaxStepInBox(x, d, lower, upper);
     LineSearch search(objective, x, d, lower, upper, value, gradient.dot(d), options,
                       &summary.num_evaluations);
     LinePoint point;
@@ -303,7 +257,7 @@ BfgsSummary MinimizeBfgs(const SmoothObjective& objective, const Eigen::VectorXd
               << gradient.dot(d) << ", largest feasible step " << alpha_max << ")";
       break;
     }
-    const Eigen::VectorXd x_new = (x + point.alpha * d).cwiseMax(lower).cwiseMin(upper);
+    const Eigen::VectorXd x_new = internal::ProjectOntoBox(x + point.alpha * d, lower, upper);
     const Eigen::VectorXd s = x_new - x;
     const Eigen::VectorXd y = point.gradient - gradient;
     const double reduction = (value - point.value) / std::max(std::abs(value), 1e-300);
@@ -327,7 +281,7 @@ BfgsSummary MinimizeBfgs(const SmoothObjective& objective, const Eigen::VectorXd
       message << "relative cost change " << reduction << " <= " << options.cost_tolerance;
       break;
     }
-    if (step_norm <= options.step_tolerance * (x_norm + options.step_tolerance)) {
+    if (internal::IsStepBelowTolerance(step_norm, x_norm, options.step_tolerance)) {
       // A vanishing step from a stale quasi-Newton matrix says little about the optimum:
       // restart from the initial matrix once before believing it.
       if (!fresh_direction) {
@@ -336,14 +290,13 @@ BfgsSummary MinimizeBfgs(const SmoothObjective& objective, const Eigen::VectorXd
         continue;
       }
       summary.termination = Termination::kStepConverged;
-      message << "relative step " << step_norm / (x_norm + options.step_tolerance)
-              << " <= " << options.step_tolerance;
+      internal::WriteRelativeStep(step_norm, x_norm, options.step_tolerance, &message);
       break;
     }
   }
   summary.final_value = value;
   summary.message = message.str();
-  summary.total_seconds = elapsed();
+  summary.total_seconds = stopwatch.ElapsedSeconds();
   return summary;
 }
 

@@ -1,10 +1,11 @@
 #include "engine/solve/gauss_newton.h"
 
 #include <Eigen/QR>
-#include <chrono>
 #include <cmath>
 #include <sstream>
 #include <vector>
+
+#include "engine/solve/internal/line_search.h"
 
 namespace foothold {
 namespace {
@@ -72,23 +73,18 @@ double GradientCosine(const Eigen::MatrixXd& jacobian, const Eigen::VectorXd& r)
 
 bool GaussNewtonOptions::Validate(std::string* error) const {
   std::ostringstream out;
-  if (max_iterations < 0) {
-    out << "max_iterations = " << max_iterations << ": must be >= 0";
-  } else if (max_evaluations < 1) {
-    out << "max_evaluations = " << max_evaluations << ": must be >= 1";
-  } else if (!(cost_tolerance >= 0)) {
-    out << "cost_tolerance = " << cost_tolerance << ": must be >= 0";
-  } else if (!(step_tolerance >= 0)) {
-    out << "step_tolerance = " << step_tolerance << ": must be >= 0";
-  } else if (!(gradient_tolerance >= 0)) {
-    out << "gradient_tolerance = " << gradient_tolerance << ": must be >= 0";
-  } else if (!(armijo_c1 > 0 && armijo_c1 < 1)) {
-    out << "armijo_c1 = " << armijo_c1 << ": must be in (0, 1)";
-  } else if (max_backtracks < 1) {
-    out << "max_backtracks = " << max_backtracks << ": must be >= 1";
-  } else if (!(deadline_seconds > 0)) {
-    out << "deadline_seconds = " << deadline_seconds << ": must be > 0";
-  } else {
+  auto line_search_rule_broken = [&] {
+    if (!(armijo_c1 > 0 && armijo_c1 < 1)) {
+      out << "armijo_c1 = " << armijo_c1 << ": must be in (0, 1)";
+    } else if (max_backtracks < 1) {
+      out << "max_backtracks = " << max_backtracks << ": must be >= 1";
+    } else {
+      return false;
+    }
+    return true;
+  };
+  if (!internal::SharedRuleBroken(*this, &out) && !line_search_rule_broken() &&
+      !internal::DeadlineRuleBroken(deadline_seconds, &out)) {
     return true;
   }
   if (error != nullptr) *error = out.str();
@@ -99,20 +95,13 @@ GaussNewtonOptions GaussNewtonOptionsFrom(const LevenbergMarquardtOptions& lm) {
   GaussNewtonOptions options;
   options.max_iterations = lm.max_iterations;
   options.max_evaluations = lm.max_evaluations;
-  options.cost_tolerance = lm.cost_tolerance;
-  options.step_tolerance = lm.step_tolerance;
-  options.gradient_tolerance = lm.gradient_tolerance;
-  options.deadline_seconds = lm.deadline_seconds;
-  options.callback = lm.callback;
+  internal::CopySharedFields(lm, &options);
   return options;
 }
 
 LocalFitSummary MinimizeGaussNewton(const Problem& problem, const Eigen::VectorXd& start,
                                     const GaussNewtonOptions& options) {
-  const auto started = std::chrono::steady_clock::now();
-  auto elapsed = [&started] {
-    return std::chrono::duration<double>(std::chrono::steady_clock::now() - started).count();
-  };
+  const internal::Stopwatch stopwatch;
   LocalFitSummary summary;
   summary.start = start;
   summary.parameters = start;
@@ -140,6 +129,19 @@ LocalFitSummary MinimizeGaussNewton(const Problem& problem, const Eigen::VectorX
     return summary;
   }
 
+  // The step moves the free parameters only, inside their part of the box.
+  const int num_free = static_cast<int>(free.size());
+  Eigen::VectorXd free_lower(num_free);
+  Eigen::VectorXd free_upper(num_free);
+  for (int j = 0; j < num_free; ++j) {
+    free_lower[j] = problem.Lower(free[j]);
+    free_upper[j] = problem.Upper(free[j]);
+  }
+  internal::IterationLimits limits;
+  limits.max_iterations = options.max_iterations;
+  limits.deadline_seconds = options.deadline_seconds;
+  limits.callback = &options.callback;
+
   Eigen::VectorXd trial_r;
   while (true) {
     if (cost == 0) {
@@ -153,19 +155,9 @@ LocalFitSummary MinimizeGaussNewton(const Problem& problem, const Eigen::VectorX
       message << "gradient cosine " << cosine << " <= " << options.gradient_tolerance;
       break;
     }
-    if (summary.num_iterations >= options.max_iterations) {
-      summary.termination = Termination::kIterationLimit;
-      message << "iteration limit " << options.max_iterations;
-      break;
-    }
-    if (elapsed() > options.deadline_seconds) {
-      summary.termination = Termination::kDeadline;
-      message << "deadline " << options.deadline_seconds << " s";
-      break;
-    }
-    if (options.callback && !options.callback(summary.num_iterations, cost)) {
-      summary.termination = Termination::kCancelled;
-      message << "cancelled at iteration " << summary.num_iterations;
+    if (internal::IterationLimitReached(limits, summary.num_iterations, summary.num_evaluations,
+                                        cost, stopwatch.ElapsedSeconds(), &summary.termination,
+                                        &message)) {
       break;
     }
     ++summary.num_iterations;
@@ -181,6 +173,7 @@ LocalFitSummary MinimizeGaussNewton(const Problem& problem, const Eigen::VectorX
     bool step_small = false;
     bool out_of_evaluations = false;
     Eigen::VectorXd trial_x = x;
+    const Eigen::VectorXd free_x = x(free);
     double trial_cost = kNaN;
     double step_norm = 0;
     for (int k = 0; k < options.max_backtracks; ++k, alpha *= 0.5) {
@@ -188,16 +181,12 @@ LocalFitSummary MinimizeGaussNewton(const Problem& problem, const Eigen::VectorX
         out_of_evaluations = true;
         break;
       }
-      Eigen::VectorXd delta(free.size());
-      for (size_t j = 0; j < free.size(); ++j) {
-        const int i = free[j];
-        const double moved =
-            std::min(std::max(x[i] + alpha * direction[j], problem.Lower(i)), problem.Upper(i));
-        trial_x[i] = moved;
-        delta[j] = moved - x[i];
-      }
+      const Eigen::VectorXd moved =
+          internal::ProjectOntoBox(free_x + alpha * direction, free_lower, free_upper);
+      trial_x(free) = moved;
+      const Eigen::VectorXd delta = moved - free_x;
       step_norm = delta.norm();
-      if (step_norm <= options.step_tolerance * (x.norm() + options.step_tolerance)) {
+      if (internal::IsStepBelowTolerance(step_norm, x.norm(), options.step_tolerance)) {
         step_small = true;
         break;
       }
@@ -238,17 +227,16 @@ LocalFitSummary MinimizeGaussNewton(const Problem& problem, const Eigen::VectorX
       message << "relative cost change " << reduction << " <= " << options.cost_tolerance;
       break;
     }
-    if (step_norm <= options.step_tolerance * (x.norm() + options.step_tolerance)) {
+    if (internal::IsStepBelowTolerance(step_norm, x.norm(), options.step_tolerance)) {
       summary.termination = Termination::kStepConverged;
-      message << "relative step " << step_norm / (x.norm() + options.step_tolerance)
-              << " <= " << options.step_tolerance;
+      internal::WriteRelativeStep(step_norm, x.norm(), options.step_tolerance, &message);
       break;
     }
   }
   summary.parameters = x;
   summary.final_cost = cost;
   summary.message = message.str();
-  summary.total_seconds = elapsed();
+  summary.total_seconds = stopwatch.ElapsedSeconds();
   return summary;
 }
 
