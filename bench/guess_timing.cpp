@@ -2,6 +2,7 @@
 // datasets (5000 points). A plain harness: no benchmark library needed.
 //
 //   foothold_guess_timing [repetitions] [multistart_repetitions]      (default 20 and 3)
+//   foothold_guess_timing --guess-only FAMILY [repetitions]          (for a profiler)
 //
 // Two fits follow a guess in `foothold fit`: with --starts 1 one local fit from the best
 // candidate (RunLocalFit, default options), and by default the multistart run. The bench
@@ -139,9 +140,36 @@ bool TimeFamily(const corpus::CorpusCase& c, int repetitions, int multistart_rep
   return true;
 }
 
+// Only the guesses of one family, for callgrind: nothing else in the profile.
+int GuessOnly(const std::string& family, int repetitions) {
+  for (const corpus::CorpusCase& c : corpus::GenerateCorpus(20261201, 2)) {
+    if (c.request.name != family || c.x.size() != corpus::kMaxPoints) continue;
+    FamilyInstance instance;
+    Problem problem;
+    std::string error;
+    if (!BuildProblem(c, &instance, &problem, &error)) break;
+    GuessResult guess;
+    for (int r = 0; r < repetitions; ++r) {
+      if (!GuessFamily(c.request, *instance.model, problem.data, problem.lower, problem.upper,
+                       GuessOptions(), &guess, &error)) {
+        std::printf("%s: %s\n", c.label.c_str(), error.c_str());
+        return 1;
+      }
+    }
+    std::printf("%s: best guess:%s rss %.6g\n", c.label.c_str(),
+                guess.candidates.front().name.c_str(), guess.candidates.front().rss);
+    return 0;
+  }
+  std::printf("no 5000-point case of family '%s'\n", family.c_str());
+  return 1;
+}
+
 }  // namespace
 
 int main(int argc, char** argv) {
+  if (argc > 2 && std::string(argv[1]) == "--guess-only") {
+    return GuessOnly(argv[2], argc > 3 ? std::max(1, std::atoi(argv[3])) : 1);
+  }
   const int repetitions = argc > 1 ? std::max(1, std::atoi(argv[1])) : 20;
   const int multistart_repetitions = argc > 2 ? std::max(1, std::atoi(argv[2])) : 3;
   std::printf("load average %s; processor time, medians of %d guesses and local fits, %d "

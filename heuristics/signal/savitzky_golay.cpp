@@ -22,8 +22,8 @@ constexpr int kMaxWeightsOrder = 8;
 constexpr double kWindowGrowth = 1.25;
 
 // Rows d = 0..2 of (V^T V)^-1 V^T for the local Vandermonde matrix V: the weights of the
-// value and the first two Taylor coefficients. The buffers are reused from window to window
-// so that the smoothing loop does not allocate.
+// value and the first two Taylor coefficients, as SavitzkyGolayWeights returns them (the
+// smoother itself solves with the Gram matrix directly: FitWindow below).
 struct LocalWeights {
   Eigen::MatrixXd rows;  // 3 x w (rows beyond the order are zero)
   double scale = 1.0;    // s in t = (x - x_eval) / s
@@ -78,6 +78,63 @@ Eigen::Index WindowStart(Eigen::Index i, Eigen::Index h, Eigen::Index n) {
   return std::clamp<Eigen::Index>(i - h, 0, n - 1 - 2 * h);
 }
 
+// The smoother needs only the local polynomial's coefficients c = G^-1 V^T y and the
+// leverage e_0^T G^-1 v(t_i), so it solves with the small Gram matrix G directly instead of
+// forming the 3 x w weight rows (the same numbers: rows y = G^-1 V^T y). Fixed-capacity types keep the loop free of allocations.
+using SmallMatrix =
+    Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, kMaxOrder + 1, kMaxOrder + 1>;
+using SmallVector = Eigen::Matrix<double, Eigen::Dynamic, 1, 0, kMaxOrder + 1, 1>;
+// A pivot of G's LDLT below this share of the largest means too few distinct x in the
+// window for the order (|t| <= 1, so a well-spread window has pivots near 1).
+constexpr double kMinPivotShare = 1e3 * std::numeric_limits<double>::epsilon();
+
+struct WindowFit {
+  double value = 0.0;
+  double first_derivative = 0.0;
+  double second_derivative = 0.0;
+  double leverage = 0.0;  // weight of y_i in its own smoothed value
+};
+
+// The local polynomial of degree `order` through the w points at window_x / window_y, in
+// t = (x - x_self) / s, evaluated at window_x[self]. False when G is numerically singular.
+bool FitWindow(const double* window_x, const double* window_y, Eigen::Index w, Eigen::Index self,
+               int order, WindowFit* out) {
+  const double x_eval = window_x[self];
+  // x is increasing, so the farthest point from x_eval is one of the window's ends.
+  const double scale = std::max(x_eval - window_x[0], window_x[w - 1] - x_eval);
+  if (!(scale > 0.0)) return false;
+  const int p = order + 1;
+  double power_sums[2 * (kMaxOrder + 1) - 1] = {};
+  SmallVector moments = SmallVector::Zero(p);
+  for (Eigen::Index j = 0; j < w; ++j) {
+    const double t = (window_x[j] - x_eval) / scale;
+    double power = 1.0;
+    for (int m = 0; m < p; ++m, power *= t) {
+      power_sums[m] += power;
+      moments[m] += power * window_y[j];
+    }
+    for (int m = p; m < 2 * p - 1; ++m, power *= t) power_sums[m] += power;
+  }
+  SmallMatrix gram(p, p);
+  for (int a = 0; a < p; ++a) {
+    for (int b = 0; b < p; ++b) gram(a, b) = power_sums[a + b];
+  }
+  const Eigen::LDLT<SmallMatrix> ldlt(gram);
+  const auto pivots = ldlt.vectorD().cwiseAbs();
+  if (ldlt.info() != Eigen::Success || !(pivots.minCoeff() > kMinPivotShare * pivots.maxCoeff())) {
+    return false;
+  }
+  const SmallVector coefficients = ldlt.solve(moments);
+  // t is centred on x_i, so v(t_i) = e_0 and the leverage is (G^-1)_00.
+  const SmallVector own = ldlt.solve(SmallVector::Unit(p, 0));
+  out->value = coefficients[0];
+  out->leverage = own[0];
+  // The Taylor coefficients c1, c2 of p(t) give dy/dx = c1 / s and d2y/dx2 = 2 c2 / s^2.
+  out->first_derivative = coefficients[1] / scale;
+  out->second_derivative = 2.0 * coefficients[2] / (scale * scale);
+  return true;
+}
+
 // One pass of the smoother. With derivatives == false only value and leverage are filled.
 bool SmoothPass(const Eigen::VectorXd& x, const Eigen::VectorXd& y, int order, Eigen::Index h,
                 bool derivatives, SmoothedCurve* out, Eigen::VectorXd* leverage) {
@@ -89,18 +146,15 @@ bool SmoothPass(const Eigen::VectorXd& x, const Eigen::VectorXd& y, int order, E
     out->second_derivative.resize(n);
   }
   if (leverage) leverage->resize(n);
-  LocalWeights weights;
+  WindowFit fit;
   for (Eigen::Index i = 0; i < n; ++i) {
     const Eigen::Index lo = WindowStart(i, h, n);
-    if (!ComputeLocalWeights(x.data() + lo, w, x[i], order, &weights)) return false;
-    const auto window_y = y.segment(lo, w);
-    out->value[i] = weights.rows.row(0).dot(window_y);
-    if (leverage) (*leverage)[i] = weights.rows(0, i - lo);
+    if (!FitWindow(x.data() + lo, y.data() + lo, w, i - lo, order, &fit)) return false;
+    out->value[i] = fit.value;
+    if (leverage) (*leverage)[i] = fit.leverage;
     if (derivatives) {
-      // The Taylor coefficients c1, c2 of p(t) give dy/dx = c1 / s and d2y/dx2 = 2 c2 / s^2.
-      out->first_derivative[i] = weights.rows.row(1).dot(window_y) / weights.scale;
-      out->second_derivative[i] =
-          2.0 * weights.rows.row(2).dot(window_y) / (weights.scale * weights.scale);
+      out->first_derivative[i] = fit.first_derivative;
+      out->second_derivative[i] = fit.second_derivative;
     }
   }
   return true;
