@@ -32,6 +32,7 @@ const std::set<std::string>& ValueFlags() {
                                             "--loss",
                                             "--loss-scale",
                                             "--method",
+                                            "--intervals",
                                             "--starts",
                                             "--seed",
                                             "--threads",
@@ -242,6 +243,10 @@ bool ApplyFlag(const std::string& flag, const std::string& value, FitRequest* re
     request->method = value;
     return true;
   }
+  if (flag == "--intervals") {
+    request->intervals = value;  // FitRequest::Validate names the accepted values
+    return true;
+  }
   if (flag == "--loss-scale") return ParseNumber(flag, value, &request->loss_scale, error);
   if (flag == "--deadline") return ParseNumber(flag, value, &request->deadline_seconds, error);
   if (flag == "--starts") return ParseSmallInt(flag, value, 1, &request->starts, error);
@@ -372,6 +377,9 @@ DATA                     CSV with a header row naming the columns, or a .json fi
 --loss NAME              robust loss; only squared for now
 --loss-scale S           scale of the robust loss (default 1)
 --method NAME            local method; only lm for now
+--intervals wald|profile confidence intervals: wald (default, from the covariance) or
+                         profile (the Wald intervals and, beside them, profile-likelihood
+                         intervals; see docs/statistics.md)
 --starts N               local fits to run: 1 = one fit from the best start; default
                          automatic (max(16, 8 p) up to 256, stopped early by a
                          Bayesian rule once no unseen optimum is expected)

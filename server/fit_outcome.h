@@ -13,6 +13,7 @@
 #include "engine/solve/levenberg_marquardt.h"
 #include "engine/solve/problem.h"
 #include "engine/stats/fit_statistics.h"
+#include "engine/stats/profile_likelihood.h"
 #include "server/fit_request.h"
 
 namespace foothold {
@@ -61,9 +62,16 @@ struct FitOutcome {
   bool is_loss_scale_automatic = true;
   double outlier_cut = 0;     // 0 for the squared loss
   std::vector<int> outliers;  // point indices (data order), ascending
+  // The intervals asked for: "wald" or "profile" (docs/statistics.md). With "profile" the
+  // profile-likelihood intervals at best.parameters are in `profile`: is_computed false with
+  // the reason in profile.message when they could not be computed (a fit that did not
+  // converge, a robust loss, no estimable scale). Empty for "wald".
+  std::string intervals = "wald";
+  ProfileLikelihoodSummary profile;
 
   bool IsConverged() const { return best.IsConverged(); }
   bool IsWeighted() const { return !sigma_column.empty(); }
+  bool HasProfile() const { return intervals == "profile"; }
 };
 
 }  // namespace foothold

@@ -53,6 +53,45 @@ double At(const Eigen::VectorXd& values, size_t j) {
                                                 : std::numeric_limits<double>::quiet_NaN();
 }
 
+// The profile interval of parameter j beside its Wald interval: [low, high] with null for
+// an open end, and how each end was settled; both null unless profile intervals were asked
+// for and computed (docs/result-document.md).
+void AddProfileInterval(const FitOutcome& outcome, size_t j, Json* entry) {
+  const ProfileLikelihoodSummary& profile = outcome.profile;
+  if (!outcome.HasProfile() || !profile.is_computed || j >= profile.intervals.size()) {
+    (*entry)["profile_interval"] = nullptr;
+    (*entry)["profile_status"] = nullptr;
+    return;
+  }
+  const ProfileInterval& interval = profile.intervals[j];
+  (*entry)["profile_interval"] = interval.is_profiled
+                                     ? Json::array({Number(interval.lower), Number(interval.upper)})
+                                     : Json(nullptr);
+  (*entry)["profile_status"] = {{"lower", ToString(interval.lower_end)},
+                                {"upper", ToString(interval.upper_end)},
+                                {"refits", interval.num_refits},
+                                {"message", interval.message}};
+}
+
+// The profile's threshold and counts; null unless profile intervals were asked for.
+Json EncodeProfile(const FitOutcome& outcome) {
+  if (!outcome.HasProfile()) return nullptr;
+  const ProfileLikelihoodSummary& profile = outcome.profile;
+  Json object = Json::object();
+  object["computed"] = profile.is_computed;
+  object["message"] = profile.is_computed ? profile.BriefReport() : profile.message;
+  if (!profile.is_computed) return object;
+  object["rule"] = ToString(profile.rule);
+  object["confidence_level"] = Number(profile.confidence_level);
+  object["threshold_rss"] = Number(profile.threshold_cost);
+  object["delta_rss"] = Number(profile.cost_increase);
+  object["refits"] = profile.num_refits;
+  object["seconds"] = Number(profile.total_seconds);
+  object["lower_rss_found"] =
+      profile.found_lower_cost ? Number(profile.lowest_cost) : Json(nullptr);
+  return object;
+}
+
 Json EncodeBest(const FitOutcome& outcome) {
   const FitStatistics& stats = outcome.statistics;
   const LocalFitSummary& best = outcome.best;
@@ -66,6 +105,7 @@ Json EncodeBest(const FitOutcome& outcome) {
     entry["ci_high"] = Number(At(stats.ci_high, j));
     entry["at_bound"] = j < stats.at_bound.size() && stats.at_bound[j];
     entry["fixed"] = j < outcome.is_fixed.size() && outcome.is_fixed[j];
+    AddProfileInterval(outcome, j, &entry);
     parameters[names[j]] = std::move(entry);
   }
   Json unidentifiable = Json::array();
@@ -104,6 +144,8 @@ Json EncodeBest(const FitOutcome& outcome) {
   object["method"] = outcome.method;
   object["covariance_scale"] = Number(stats.covariance_scale);
   object["t_quantile"] = Number(stats.t_quantile);
+  object["intervals"] = outcome.intervals;
+  object["profile"] = EncodeProfile(outcome);
   object["correlation"] = Matrix(stats.correlation);
   object["covariance"] = Matrix(stats.covariance);
   object["seconds"] = Number(best.total_seconds);

@@ -66,10 +66,28 @@ double At(const Eigen::VectorXd& values, size_t j) {
   return j < static_cast<size_t>(values.size()) ? values[j] : std::nan("");
 }
 
+// One end of a profile interval: its value, or why it is open.
+std::string ProfileEndText(double value, ProfileEnd end) {
+  if (end == ProfileEnd::kCrossed) return FormatSignificant(value, kValueDigits);
+  return std::string("open (") + ToString(end) + ")";
+}
+
+// The profile column of parameter j; empty when profiles were not asked for.
+std::string ProfileCell(const FitOutcome& outcome, size_t j) {
+  const ProfileLikelihoodSummary& profile = outcome.profile;
+  if (!profile.is_computed || j >= profile.intervals.size()) return "n/a";
+  const ProfileInterval& interval = profile.intervals[j];
+  return "[" + ProfileEndText(interval.lower, interval.lower_end) + ", " +
+         ProfileEndText(interval.upper, interval.upper_end) + "]";
+}
+
 void WriteParameterTable(const FitOutcome& outcome, std::ostream& out) {
   const FitStatistics& stats = outcome.statistics;
+  const bool has_profile = outcome.HasProfile();
   std::vector<std::vector<std::string>> rows;
-  rows.push_back({"parameter", "value", "std. error", "95% interval", ""});
+  rows.push_back({"parameter", "value", "std. error", "95% interval"});
+  if (has_profile) rows.back().push_back("95% profile interval");
+  rows.back().push_back("");
   for (size_t j = 0; j < outcome.parameter_names.size(); ++j) {
     const bool fixed = j < outcome.is_fixed.size() && outcome.is_fixed[j];
     const bool at_bound = j < stats.at_bound.size() && stats.at_bound[j];
@@ -78,10 +96,12 @@ void WriteParameterTable(const FitOutcome& outcome, std::ostream& out) {
     if (fixed) {
       row.push_back("fixed");
       row.push_back("");
+      if (has_profile) row.push_back("");
     } else {
       row.push_back(FormatSignificant(At(stats.standard_errors, j), kErrorDigits));
       row.push_back("[" + FormatSignificant(At(stats.ci_low, j), kValueDigits) + ", " +
                     FormatSignificant(At(stats.ci_high, j), kValueDigits) + "]");
+      if (has_profile) row.push_back(ProfileCell(outcome, j));
     }
     row.push_back(at_bound && !fixed ? "at bound" : "");
     rows.push_back(std::move(row));
@@ -128,16 +148,15 @@ void WriteSearch(const FitOutcome& outcome, std::ostream& out) {
   out << '\n';
   if (outcome.basins.empty()) return;
   std::vector<std::vector<std::string>> rows;
-  std::vector<std::string> header{"basin", outcome.IsWeighted() ? "chi-square" : "rss",
-                                  "delta", "starts"};
+  std::vector<std::string> header{"basin", outcome.IsWeighted() ? "chi-square" : "rss", "delta",
+                                  "starts"};
   for (const std::string& name : outcome.parameter_names) header.push_back(name);
   rows.push_back(header);
   for (const Basin& basin : outcome.basins) {
     if (basin.id >= kMaxBasinRows) break;
-    std::vector<std::string> row{std::to_string(basin.id),
-                                 FormatSignificant(basin.rss, kValueDigits),
-                                 FormatSignificant(basin.delta_rss, kErrorDigits),
-                                 std::to_string(basin.num_starts)};
+    std::vector<std::string> row{
+        std::to_string(basin.id), FormatSignificant(basin.rss, kValueDigits),
+        FormatSignificant(basin.delta_rss, kErrorDigits), std::to_string(basin.num_starts)};
     for (Eigen::Index j = 0; j < basin.parameters.size(); ++j) {
       row.push_back(FormatSignificant(basin.parameters[j], kValueDigits));
     }
@@ -145,8 +164,7 @@ void WriteSearch(const FitOutcome& outcome, std::ostream& out) {
   }
   WriteAligned(rows, out);
   if (static_cast<int>(outcome.basins.size()) > kMaxBasinRows) {
-    out << "... and " << outcome.basins.size() - kMaxBasinRows
-        << " more basins (all in --json)\n";
+    out << "... and " << outcome.basins.size() - kMaxBasinRows << " more basins (all in --json)\n";
   }
 }
 
@@ -172,6 +190,10 @@ void WriteFitReport(const FitOutcome& outcome, const std::string& source, std::o
   WriteAligned(header, out);
   out << '\n';
   WriteParameterTable(outcome, out);
+  if (outcome.HasProfile()) {
+    const ProfileLikelihoodSummary& profile = outcome.profile;
+    out << (profile.is_computed ? profile.BriefReport() : profile.message) << '\n';
+  }
   out << '\n';
   WriteStatistics(outcome, out);
   out << '\n';

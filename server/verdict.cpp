@@ -236,6 +236,63 @@ void AddOutlierFindings(const FitOutcome& outcome, const VerdictOptions& options
                        ", from 0) and barely count; check them before trusting the result."});
 }
 
+// Why the profile interval of parameter j disagrees with its Wald interval, or "" when they
+// agree or cannot be compared (no Wald interval, an end stopped or failed to refit).
+std::string IntervalDisagreement(const FitOutcome& outcome, size_t j, double max_ratio) {
+  const FitStatistics& stats = outcome.statistics;
+  const ProfileInterval& interval = outcome.profile.intervals[j];
+  if (!interval.is_profiled || j >= static_cast<size_t>(outcome.best.parameters.size()) ||
+      j >= static_cast<size_t>(stats.ci_low.size())) {
+    return "";
+  }
+  const double estimate = outcome.best.parameters[j];
+  struct Side {
+    const char* name;
+    ProfileEnd end;
+    double profile_half_width;
+    double wald_half_width;
+  };
+  const Side sides[] = {
+      {"lower", interval.lower_end, estimate - interval.lower, estimate - stats.ci_low[j]},
+      {"upper", interval.upper_end, interval.upper - estimate, stats.ci_high[j] - estimate}};
+  for (const Side& side : sides) {
+    if (!(std::isfinite(side.wald_half_width) && side.wald_half_width > 0)) return "";
+  }
+  for (const Side& side : sides) {
+    if (side.end == ProfileEnd::kBound || side.end == ProfileEnd::kFlat) {
+      return std::string(side.name) + " end open (" + ToString(side.end) + ")";
+    }
+    if (side.end != ProfileEnd::kCrossed) continue;
+    const double ratio = side.profile_half_width / side.wald_half_width;
+    if (ratio > max_ratio || ratio < 1 / max_ratio) {
+      return std::string(side.name) + " half-width " + Short(ratio) + " times the Wald one";
+    }
+  }
+  return "";
+}
+
+// Profile and Wald intervals measure the same uncertainty when the model is nearly linear
+// over the interval; a strong mismatch shows a curved or barely identified direction.
+void AddIntervalFindings(const FitOutcome& outcome, const VerdictOptions& options,
+                         std::vector<Finding>* findings) {
+  if (!outcome.HasProfile() || !outcome.profile.is_computed) return;
+  std::vector<std::string> names;
+  std::string first_reason;
+  for (size_t j = 0; j < outcome.parameter_names.size() && j < outcome.profile.intervals.size();
+       ++j) {
+    const std::string reason = IntervalDisagreement(outcome, j, options.max_interval_ratio);
+    if (reason.empty()) continue;
+    if (names.empty()) first_reason = outcome.parameter_names[j] + ": " + reason;
+    names.push_back(outcome.parameter_names[j]);
+  }
+  if (names.empty()) return;
+  findings->push_back(
+      {"intervals_disagree",
+       "The profile and Wald intervals of " + JoinNames(names) + " disagree (" + first_reason +
+           "); the fit is curved or barely determined in that direction, so quote the profile "
+           "interval, not the standard error."});
+}
+
 // Location parameters of the catalogue families: the x of a peak, a midpoint or an
 // inflection. Expressions have no such names and are not judged.
 struct Location {
@@ -323,6 +380,7 @@ Verdict Judge(const FitOutcome& outcome, const XRange& range, const VerdictOptio
   AddChiSquareFindings(outcome, options, &findings);
   AddOutlierFindings(outcome, options, &findings);
   AddCorrelationFindings(outcome, options, &findings);
+  AddIntervalFindings(outcome, options, &findings);
   AddExtrapolationFindings(outcome, range, options, &findings);
   AddSingleStartFindings(outcome, &findings);
   Verdict verdict;
@@ -366,6 +424,9 @@ bool VerdictOptions::Validate(std::string* error) const {
     return fail("extrapolation_margin", extrapolation_margin, "must be finite and >= 0");
   }
   if (min_outliers < 1) return fail("min_outliers", min_outliers, "must be >= 1");
+  if (!(max_interval_ratio > 1) || !std::isfinite(max_interval_ratio)) {
+    return fail("max_interval_ratio", max_interval_ratio, "must be finite and > 1");
+  }
   if (!(equivalent_gap_chi2 >= 0) || !std::isfinite(equivalent_gap_chi2)) {
     return fail("equivalent_gap_chi2", equivalent_gap_chi2, "must be finite and >= 0");
   }

@@ -40,6 +40,12 @@ struct VerdictOptions {
   // "outliers" when a robust fit marks at least this many points (|e_i / scale| beyond the
   // loss's cut, FitOutcome::outliers). Default 1. >= 1.
   int min_outliers = 1;
+  // With profile intervals requested, "intervals_disagree" names the free parameters whose
+  // profile interval has an open end, or a half-width (either side, measured from the
+  // estimate) more than this many times or less than 1/this of the Wald one. Default 2: a
+  // mismatch by a factor of two is far beyond the few per cent a nearly linear model gives,
+  // and marks a curved or barely identified direction. > 1.
+  double max_interval_ratio = 2.0;
 
   bool Validate(std::string* error) const;
 };
