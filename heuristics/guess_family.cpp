@@ -9,6 +9,7 @@
 #include "engine/stats/fit_statistics.h"
 #include "heuristics/families/guess_families.h"
 #include "heuristics/guess.h"
+#include "heuristics/internal/dataset_check.h"
 #include "heuristics/signal/peaks.h"
 
 namespace foothold {
@@ -75,7 +76,7 @@ bool GuessFamily(const FamilyRequest& request, const Model& model, const Dataset
                  const GuessOptions& options, GuessResult* out, std::string* error) {
   std::string message;
   if (!options.Validate(&message)) return Fail(error, "guess options: " + message);
-  if (!data.Validate(&message)) return Fail(error, message);
+  if (!internal::ValidateDataset(data, &message)) return Fail(error, message);
   FamilyInstance instance;
   if (!InstantiateFamily(request, &instance, &message)) return Fail(error, message);
   if (instance.model->NumParameters() != model.NumParameters()) {
@@ -108,7 +109,7 @@ bool ResolveAutoPeaks(const Dataset& data, FamilyRequest* request, std::string* 
                            "' has no peak count (multi_gaussian and multi_lorentzian do)");
   }
   std::string message;
-  if (!data.Validate(&message)) return Fail(error, message);
+  if (!internal::ValidateDataset(data, &message)) return Fail(error, message);
   guess::Curve curve;
   if (!guess::PrepareCurve(data, request->name, 4, &curve, error)) return false;
   int num_detected = 0;

@@ -15,6 +15,7 @@
 #include "engine/solve/local_fit.h"
 #include "engine/solve/variable_projection.h"
 #include "heuristics/guess.h"
+#include "heuristics/internal/dataset_check.h"
 #include "heuristics/internal/generic_design.h"
 #include "heuristics/internal/generic_locations.h"
 
@@ -65,7 +66,7 @@ bool ValidateInputs(const Model& model, const Dataset& data, const Eigen::Vector
   const int p = model.NumParameters();
   const auto& names = model.ParameterNames();
   if (!options.Validate(error)) return false;
-  if (!data.Validate(error)) return false;
+  if (!internal::ValidateDataset(data, error)) return false;
   if (!data.SelectPredictors(model.PredictorNames(), selected, error)) return false;
   if (lower.size() != 0 && lower.size() != p) {
     return Fail(error, "lower bounds have " + std::to_string(lower.size()) + " entries, expected " +

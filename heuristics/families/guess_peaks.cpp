@@ -225,20 +225,26 @@ PeakFamily Classify(const FamilyRequest& request, int num_parameters) {
   return family;
 }
 
+// Windows beyond 2 x 15 + 1 points of the (at most kMaxCurvePoints) curve add cost, not
+// information, for the widths the guess needs.
+signal::PeakOptions PeakDetection() {
+  signal::PeakOptions options;
+  options.smoothing.max_auto_half_window = 15;
+  return options;
+}
+
 }  // namespace
 
 // Every candidate for peaks of one direction (sign +1 peaks, -1 dips); returns the seeds
 // detected, strongest first (at least one).
 std::vector<Seed> ProposeForSign(const Curve& curve, const PeakFamily& family, double sign,
-                                 double min_fwhm, CandidateSet* set_pointer) {
+                                 double min_fwhm, const signal::PeakSmoothing& smoothing,
+                                 CandidateSet* set_pointer) {
   CandidateSet& set = *set_pointer;
   const int k = family.num_peaks;
-  signal::PeakOptions options;
+  signal::PeakOptions options = PeakDetection();
   options.negative = sign < 0;
-  // Windows beyond 2 x 15 + 1 points of the (at most kMaxCurvePoints) curve add cost, not
-  // information, for the widths the guess needs.
-  options.smoothing.max_auto_half_window = 15;
-  const signal::PeakList found = signal::FindPeaks(curve.x, curve.y, options);
+  const signal::PeakList found = signal::FindPeaks(curve.x, curve.y, smoothing, options);
   std::vector<Seed> detected;
   if (found.IsOk()) {
     for (const signal::Peak& peak : found.peaks) {
@@ -333,8 +339,9 @@ bool GuessPeakFamily(const GuessContext& context, std::string* error) {
   // Peaks filling much of the window fool both the skew (mean against median) and the
   // single-apex reading, so both directions are always proposed and rss decides; the
   // apex reading only orders them for the scales.
-  const std::vector<Seed> detected = ProposeForSign(curve, family, sign, min_fwhm, &set);
-  ProposeForSign(curve, family, -sign, min_fwhm, &set);
+  const signal::PeakSmoothing smoothing = signal::SmoothForPeaks(curve.x, curve.y, PeakDetection());
+  const std::vector<Seed> detected = ProposeForSign(curve, family, sign, min_fwhm, smoothing, &set);
+  ProposeForSign(curve, family, -sign, min_fwhm, smoothing, &set);
   const double default_fwhm = detected[0].fwhm;
 
   // Scales: heights from the y range, centers and widths from the peak widths.

@@ -204,27 +204,50 @@ bool PeakOptions::Validate(std::string* error) const {
   return false;
 }
 
-PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const PeakOptions& options) {
-  PeakList out;
+PeakSmoothing SmoothForPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
+                             const PeakOptions& options) {
+  PeakSmoothing out;
   if (!options.Validate(&out.message)) {
     out.status = SignalStatus::kInvalidOptions;
     return out;
   }
   out.status = internal::CheckCurve(x, y, internal::CurveRequirements(), &out.message);
   if (!out.IsOk()) return out;
+  out.noise_sigma = EstimateNoise(x, y).sigma;
+  SavitzkyGolayOptions smoothing = options.smoothing;
+  if (smoothing.noise_sigma < 0.0) smoothing.noise_sigma = out.noise_sigma;
+  out.smoothed = SmoothSavitzkyGolay(x, y, smoothing);
+  if (!out.smoothed.IsOk()) {
+    out.status = out.smoothed.status;
+    out.message = "smoothing before peak detection: " + out.smoothed.message;
+  }
+  return out;
+}
 
+PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const PeakOptions& options) {
+  return FindPeaks(x, y, SmoothForPeaks(x, y, options), options);
+}
+
+PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
+                   const PeakSmoothing& smoothing, const PeakOptions& options) {
+  PeakList out;
+  if (!options.Validate(&out.message)) {
+    out.status = SignalStatus::kInvalidOptions;
+    return out;
+  }
+  if (!smoothing.IsOk()) {
+    out.status = smoothing.status;
+    out.message = smoothing.message;
+    return out;
+  }
   // Dips are peaks of the negated signal; everything is measured there and mapped back.
   const double sign = options.negative ? -1.0 : 1.0;
   const Eigen::VectorXd signal = sign * y;
-  out.noise_sigma = EstimateNoise(x, signal).sigma;
-  SavitzkyGolayOptions smoothing = options.smoothing;
-  if (smoothing.noise_sigma < 0.0) smoothing.noise_sigma = out.noise_sigma;
-  SmoothedCurve smooth = SmoothSavitzkyGolay(x, signal, smoothing);
-  if (!smooth.IsOk()) {
-    out.status = smooth.status;
-    out.message = "smoothing before peak detection: " + smooth.message;
-    return out;
-  }
+  out.noise_sigma = smoothing.noise_sigma;
+  SmoothedCurve smooth = smoothing.smoothed;
+  smooth.value *= sign;
+  smooth.first_derivative *= sign;
+  smooth.second_derivative *= sign;
   Baseline baseline = EstimateBaseline(x, smooth.value, options.baseline);
   out.prominence_threshold =
       std::max(options.min_prominence_sigmas * out.noise_sigma,

@@ -91,5 +91,24 @@ struct PeakList {
 PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
                    const PeakOptions& options = PeakOptions());
 
+// The noise estimate and smoothing FindPeaks starts from. They do not depend on
+// options.negative: the noise estimate, the window rule and the smoother all commute with
+// negating y, so a caller looking for both peaks and dips smooths once.
+struct PeakSmoothing {
+  SignalStatus status = SignalStatus::kOk;
+  std::string message;
+  double noise_sigma = 0.0;
+  SmoothedCurve smoothed;  // of y as given (not negated)
+
+  bool IsOk() const { return status == SignalStatus::kOk; }
+};
+PeakSmoothing SmoothForPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
+                             const PeakOptions& options = PeakOptions());
+
+// FindPeaks from a smoothing SmoothForPeaks made of the same x and y with the same
+// options.smoothing; the result is identical to FindPeaks(x, y, options).
+PeakList FindPeaks(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
+                   const PeakSmoothing& smoothing, const PeakOptions& options);
+
 }  // namespace signal
 }  // namespace foothold

@@ -79,13 +79,14 @@ Eigen::Index WindowStart(Eigen::Index i, Eigen::Index h, Eigen::Index n) {
 }
 
 // The smoother needs only the local polynomial's coefficients c = G^-1 V^T y and the
-// leverage e_0^T G^-1 v(t_i), so it solves with the small Gram matrix G directly instead of
-// forming the 3 x w weight rows (the same numbers: rows y = G^-1 V^T y). Fixed-capacity types keep the loop free of allocations.
-using SmallMatrix =
-    Eigen::Matrix<double, Eigen::Dynamic, Eigen::Dynamic, 0, kMaxOrder + 1, kMaxOrder + 1>;
-using SmallVector = Eigen::Matrix<double, Eigen::Dynamic, 1, 0, kMaxOrder + 1, 1>;
-// A pivot of G's LDLT below this share of the largest means too few distinct x in the
-// window for the order (|t| <= 1, so a well-spread window has pivots near 1).
+// leverage e_0^T G^-1 v(t_i), so it solves with the small Gram matrix G = V^T V directly
+// instead of forming the 3 x w weight rows (the same numbers: rows y = G^-1 V^T y). G has at
+// most 5 rows; a plain Cholesky factorisation on the stack costs a few hundred instructions
+// where a general-purpose one costs thousands, and the smoother runs it for every point of
+// every trial window.
+constexpr int kMaxTerms = kMaxOrder + 1;
+// A Cholesky pivot below this share of G_00 = w (the largest entry: |t| <= 1) means too few
+// distinct x in the window for the order.
 constexpr double kMinPivotShare = 1e3 * std::numeric_limits<double>::epsilon();
 
 struct WindowFit {
@@ -95,19 +96,40 @@ struct WindowFit {
   double leverage = 0.0;  // weight of y_i in its own smoothed value
 };
 
-// The local polynomial of degree `order` through the w points at window_x / window_y, in
-// t = (x - x_self) / s, evaluated at window_x[self]. False when G is numerically singular.
+// G = L L^T for the p x p Hankel matrix of power_sums, L in the lower triangle of `l`.
+template <int p>
+bool FactorGram(const double* power_sums, double l[kMaxTerms][kMaxTerms]) {
+  const double min_pivot = kMinPivotShare * power_sums[0];
+  for (int r = 0; r < p; ++r) {
+    for (int c = 0; c <= r; ++c) {
+      double sum = power_sums[r + c];
+      for (int k = 0; k < c; ++k) sum -= l[r][k] * l[c][k];
+      if (r == c) {
+        if (!(sum > min_pivot)) return false;
+        l[r][r] = std::sqrt(sum);
+      } else {
+        l[r][c] = sum / l[c][c];
+      }
+    }
+  }
+  return true;
+}
+
+// The local polynomial with p terms (degree p - 1) through the w points at window_x /
+// window_y, in t = (x - x_self) / s, evaluated at window_x[self]. False when G is
+// numerically singular. p is a template argument so that the small loops unroll.
+template <int p>
 bool FitWindow(const double* window_x, const double* window_y, Eigen::Index w, Eigen::Index self,
-               int order, WindowFit* out) {
+               WindowFit* out) {
   const double x_eval = window_x[self];
   // x is increasing, so the farthest point from x_eval is one of the window's ends.
   const double scale = std::max(x_eval - window_x[0], window_x[w - 1] - x_eval);
   if (!(scale > 0.0)) return false;
-  const int p = order + 1;
-  double power_sums[2 * (kMaxOrder + 1) - 1] = {};
-  SmallVector moments = SmallVector::Zero(p);
+  const double inverse_scale = 1.0 / scale;
+  double power_sums[2 * kMaxTerms - 1] = {};
+  double moments[kMaxTerms] = {};
   for (Eigen::Index j = 0; j < w; ++j) {
-    const double t = (window_x[j] - x_eval) / scale;
+    const double t = (window_x[j] - x_eval) * inverse_scale;
     double power = 1.0;
     for (int m = 0; m < p; ++m, power *= t) {
       power_sums[m] += power;
@@ -115,29 +137,40 @@ bool FitWindow(const double* window_x, const double* window_y, Eigen::Index w, E
     }
     for (int m = p; m < 2 * p - 1; ++m, power *= t) power_sums[m] += power;
   }
-  SmallMatrix gram(p, p);
-  for (int a = 0; a < p; ++a) {
-    for (int b = 0; b < p; ++b) gram(a, b) = power_sums[a + b];
+  double l[kMaxTerms][kMaxTerms];
+  if (!FactorGram<p>(power_sums, l)) return false;
+  // c = L^-T L^-1 moments; (G^-1)_00 = |L^-1 e_0|^2 since t is centred on x_i (v(t_i) = e_0).
+  double z[kMaxTerms], e[kMaxTerms];
+  double leverage = 0.0;
+  for (int r = 0; r < p; ++r) {
+    double sum_z = moments[r], sum_e = r == 0 ? 1.0 : 0.0;
+    for (int k = 0; k < r; ++k) {
+      sum_z -= l[r][k] * z[k];
+      sum_e -= l[r][k] * e[k];
+    }
+    z[r] = sum_z / l[r][r];
+    e[r] = sum_e / l[r][r];
+    leverage += e[r] * e[r];
   }
-  const Eigen::LDLT<SmallMatrix> ldlt(gram);
-  const auto pivots = ldlt.vectorD().cwiseAbs();
-  if (ldlt.info() != Eigen::Success || !(pivots.minCoeff() > kMinPivotShare * pivots.maxCoeff())) {
-    return false;
+  double c[kMaxTerms];
+  for (int r = p - 1; r >= 0; --r) {
+    double sum = z[r];
+    for (int k = r + 1; k < p; ++k) sum -= l[k][r] * c[k];
+    c[r] = sum / l[r][r];
   }
-  const SmallVector coefficients = ldlt.solve(moments);
-  // t is centred on x_i, so v(t_i) = e_0 and the leverage is (G^-1)_00.
-  const SmallVector own = ldlt.solve(SmallVector::Unit(p, 0));
-  out->value = coefficients[0];
-  out->leverage = own[0];
+  out->value = c[0];
+  out->leverage = leverage;
   // The Taylor coefficients c1, c2 of p(t) give dy/dx = c1 / s and d2y/dx2 = 2 c2 / s^2.
-  out->first_derivative = coefficients[1] / scale;
-  out->second_derivative = 2.0 * coefficients[2] / (scale * scale);
+  out->first_derivative = c[1] * inverse_scale;
+  out->second_derivative = 2.0 * c[2] * inverse_scale * inverse_scale;
   return true;
 }
 
-// One pass of the smoother. With derivatives == false only value and leverage are filled.
-bool SmoothPass(const Eigen::VectorXd& x, const Eigen::VectorXd& y, int order, Eigen::Index h,
-                bool derivatives, SmoothedCurve* out, Eigen::VectorXd* leverage) {
+// One pass of the smoother with p terms. With derivatives == false only value and leverage
+// are filled.
+template <int p>
+bool SmoothPassOfOrder(const Eigen::VectorXd& x, const Eigen::VectorXd& y, Eigen::Index h,
+                       bool derivatives, SmoothedCurve* out, Eigen::VectorXd* leverage) {
   const Eigen::Index n = x.size();
   const Eigen::Index w = 2 * h + 1;
   out->value.resize(n);
@@ -149,7 +182,7 @@ bool SmoothPass(const Eigen::VectorXd& x, const Eigen::VectorXd& y, int order, E
   WindowFit fit;
   for (Eigen::Index i = 0; i < n; ++i) {
     const Eigen::Index lo = WindowStart(i, h, n);
-    if (!FitWindow(x.data() + lo, y.data() + lo, w, i - lo, order, &fit)) return false;
+    if (!FitWindow<p>(x.data() + lo, y.data() + lo, w, i - lo, &fit)) return false;
     out->value[i] = fit.value;
     if (leverage) (*leverage)[i] = fit.leverage;
     if (derivatives) {
@@ -158,6 +191,20 @@ bool SmoothPass(const Eigen::VectorXd& x, const Eigen::VectorXd& y, int order, E
     }
   }
   return true;
+}
+
+// One pass of the smoother. With derivatives == false only value and leverage are filled.
+bool SmoothPass(const Eigen::VectorXd& x, const Eigen::VectorXd& y, int order, Eigen::Index h,
+                bool derivatives, SmoothedCurve* out, Eigen::VectorXd* leverage) {
+  static_assert(kMinOrder == 2 && kMaxOrder == 4, "one instantiation per supported order");
+  switch (order) {
+    case 2:
+      return SmoothPassOfOrder<3>(x, y, h, derivatives, out, leverage);
+    case 3:
+      return SmoothPassOfOrder<4>(x, y, h, derivatives, out, leverage);
+    default:
+      return SmoothPassOfOrder<5>(x, y, h, derivatives, out, leverage);
+  }
 }
 
 }  // namespace

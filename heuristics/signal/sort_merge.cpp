@@ -73,13 +73,21 @@ PreparedCurve SortAndMerge(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
     }
     order.push_back(i);
   }
-  std::stable_sort(order.begin(), order.end(),
-                   [&x](Eigen::Index a, Eigen::Index b) { return x[a] < x[b]; });
+  // Measured series usually arrive sorted; a stable sort leaves them as they are, so the
+  // O(n log n) sort runs only when a pair is out of order.
+  const auto is_before = [&x](Eigen::Index a, Eigen::Index b) { return x[a] < x[b]; };
+  if (!std::is_sorted(order.begin(), order.end(), is_before)) {
+    std::stable_sort(order.begin(), order.end(), is_before);
+  }
 
   const double span = order.empty() ? 0.0 : x[order.back()] - x[order.front()];
   const double tolerance = options.relative_x_tolerance * span;
   std::vector<double> merged_x, merged_y, merged_sigma;
   std::vector<int> counts;
+  merged_x.reserve(order.size());
+  merged_y.reserve(order.size());
+  counts.reserve(order.size());
+  if (has_sigma) merged_sigma.reserve(order.size());
   for (size_t start = 0; start < order.size();) {
     size_t end = start + 1;
     while (end < order.size() && x[order[end]] - x[order[start]] <= tolerance) ++end;
