@@ -2,6 +2,7 @@
 // sigma, each fitted from the truth (this tests the statistics, not the guessers); the Wald
 // interval of fit_statistics.h and the profile interval of profile_likelihood.h should each
 // contain the truth in about 95% of the datasets.
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <chrono>
 #include <cmath>
@@ -31,6 +32,9 @@ constexpr double kLevel = 0.95;
 constexpr double kLowestRate = 0.93;
 constexpr double kHighestRate = 0.97;
 constexpr std::uint64_t kSeed = 20261202;
+// The intervals_disagree threshold (VerdictOptions::max_interval_ratio = 2 in the server
+// layer, which this engine test cannot include): no well-posed fit here may reach it.
+constexpr double kMaxWellPosedWidthRatio = 2;
 
 // Standard normal deviates by Box–Muller over mt19937_64, whose output the C++ standard fixes
 // (std::normal_distribution is implementation-defined, so it would differ between libraries).
@@ -71,8 +75,18 @@ struct CoverageCounts {
   int num_failed_fits = 0;
   int num_open_profiles = 0;
   int num_refits = 0;
+  // The largest max(r, 1/r) of r = profile half-width / Wald half-width over every side of
+  // every parameter and dataset: how far a well-posed fit is from the intervals_disagree
+  // threshold (server/verdict.h, 2 by default).
+  double worst_width_ratio = 1;
+  std::vector<double> width_ratios;  // every side of every closed interval
   double seconds = 0;
 };
+
+double WidthRatio(double profile_half_width, double wald_half_width) {
+  const double r = profile_half_width / wald_half_width;
+  return std::max(r, 1 / r);
+}
 
 bool Covers(double low, double high, double truth) { return low <= truth && truth <= high; }
 
@@ -115,6 +129,14 @@ CoverageCounts Simulate(const Scenario& scenario, std::uint64_t seed) {
       const ProfileInterval& interval = profile.intervals[j];
       counts.num_open_profiles += interval.IsClosed() ? 0 : 1;
       counts.profile[j] += Covers(interval.lower, interval.upper, scenario.truth[j]) ? 1 : 0;
+      if (interval.IsClosed()) {
+        const double estimate = fit.parameters[j];
+        for (double ratio : {WidthRatio(estimate - interval.lower, estimate - stats.ci_low[j]),
+                             WidthRatio(interval.upper - estimate, stats.ci_high[j] - estimate)}) {
+          counts.worst_width_ratio = std::max(counts.worst_width_ratio, ratio);
+          counts.width_ratios.push_back(ratio);
+        }
+      }
     }
   }
   counts.seconds =
@@ -126,9 +148,17 @@ void CheckCoverage(const Scenario& scenario, const CoverageCounts& counts) {
   const double sd = std::sqrt(kLevel * (1 - kLevel) / kDatasets);
   std::printf(
       "%s: %d datasets, band %.1f%%..%.1f%% (binomial sd %.2f%%), %d failed fits, "
-      "%d open profile intervals, %d refits, %.2f s\n",
+      "%d open profile intervals, %d refits, worst half-width ratio %.3f, %.2f s\n",
       scenario.family, kDatasets, 100 * kLowestRate, 100 * kHighestRate, 100 * sd,
-      counts.num_failed_fits, counts.num_open_profiles, counts.num_refits, counts.seconds);
+      counts.num_failed_fits, counts.num_open_profiles, counts.num_refits, counts.worst_width_ratio,
+      counts.seconds);
+  std::vector<double> ratios = counts.width_ratios;
+  std::sort(ratios.begin(), ratios.end());
+  if (!ratios.empty()) {
+    std::printf(
+        "  profile/Wald half-width ratio (max(r, 1/r)): median %.3f, 99th percentile %.3f\n",
+        ratios[ratios.size() / 2], ratios[ratios.size() * 99 / 100]);
+  }
   const std::vector<std::string>& names = scenario.model->ParameterNames();
   for (size_t j = 0; j < names.size(); ++j) {
     const double wald = static_cast<double>(counts.wald[j]) / kDatasets;
@@ -143,6 +173,8 @@ void CheckCoverage(const Scenario& scenario, const CoverageCounts& counts) {
   }
   CHECK(counts.num_failed_fits == 0);
   CHECK(counts.num_open_profiles == 0);
+  // A well-posed fit never raises intervals_disagree.
+  CHECK(counts.worst_width_ratio < kMaxWellPosedWidthRatio);
 }
 
 Eigen::VectorXd Grid(int n, double step) {
