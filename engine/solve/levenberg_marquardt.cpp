@@ -104,6 +104,8 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
   }
 
   constexpr double kEpsilon = std::numeric_limits<double>::epsilon();
+  // Smallest actual / predicted reduction that accepts a step (MINPACK's 1e-4).
+  constexpr double kAcceptRatio = 1e-4;
   bool first_iteration = true;
   double radius = 0;
   double lambda = 0;
@@ -121,9 +123,10 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
       return finish(Termination::kDeadline, Format("elapsed seconds", SecondsSince(started), ">",
                                                    options.deadline_seconds));
     }
+    // Accepted points have a finite Jacobian (TrialJacobianIsFinite), so only the start
+    // can fail here.
     if (!state.EvaluateJacobian()) {
-      return finish(Termination::kNonFiniteModel,
-                    "the Jacobian is not finite at the current point");
+      return finish(Termination::kNonFiniteModel, "the Jacobian is not finite at the start point");
     }
     ++summary.num_iterations;
 
@@ -150,7 +153,16 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
     while (true) {
       internal::TrialStep trial = state.ComputeTrialStep(radius, &lambda, options);
       if (first_iteration) radius = std::min(radius, trial.scaled_step_norm);
-      const double ratio = trial.predicted != 0 ? trial.actual / trial.predicted : 0;
+      // A step the linear model does not predict to descend (a clipped or accelerated step
+      // can point uphill) is a failure whatever the actual change: actual / predicted > 0
+      // with both negative would otherwise accept a cost increase.
+      double ratio = trial.predicted > 0 ? trial.actual / trial.predicted : 0;
+      // A trial whose values are finite but whose Jacobian is not (a width on its bound 0)
+      // cannot be iterated from: it fails like a non-finite trial, and the radius shrinks.
+      if (ratio >= kAcceptRatio && !state.TrialJacobianIsFinite()) {
+        state.MarkTrialFailed(&trial);
+        ratio = 0;
+      }
 
       // Trust-region update, Moré (1978) section 4 (MINPACK's rules).
       if (ratio <= 0.25) {
@@ -164,7 +176,7 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
         radius = trial.scaled_step_norm / 0.5;
         lambda *= 0.5;
       }
-      const bool accepted = ratio >= 1e-4;
+      const bool accepted = ratio >= kAcceptRatio && trial.actual > 0;
       if (accepted) {
         state.Accept();
         first_iteration = false;

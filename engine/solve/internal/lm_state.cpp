@@ -34,6 +34,11 @@ LmState::LmState(const Problem& problem, const Eigen::VectorXd& start)
   x_trial_ = x;
   f_trial_.resize(n);
   scratch_n_.resize(n);
+  probe_ = x;
+  f_probe_.resize(n);
+  qt_second_.resize(k);
+  geodesic_scaled_.resize(k);
+  acceleration_.resize(k);
 }
 
 bool LmState::EvaluateModel(const Eigen::VectorXd& params, Eigen::VectorXd* out, double* norm,
@@ -155,6 +160,9 @@ void LmState::Factorize() {
   solution_.resize(m);
   step_.resize(m);
   factor_step_.resize(m);
+  qt_second_.resize(m);
+  geodesic_scaled_.resize(m);
+  acceleration_.resize(m);
   FactorizeQr();
 }
 
@@ -215,8 +223,9 @@ void LmState::PredictFromFactor(const Eigen::VectorXd& step, TrialStep* trial) {
   trial->directional = f_dot_js / fnorm2;
 }
 
-void LmState::ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out) {
-  scratch_n_ = v;
+void LmState::ApplyQTransposeToDifference(const Eigen::VectorXd& a, const Eigen::VectorXd& b,
+                                          Eigen::VectorXd* out) {
+  scratch_n_ = a - b;
   ApplyReflectors(&scratch_n_);
   *out = scratch_n_.head(static_cast<int>(working_.size()));
 }
@@ -224,27 +233,25 @@ void LmState::ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out) {
 void LmState::AddGeodesicAcceleration(double lambda, const LevenbergMarquardtOptions& options,
                                       Eigen::VectorXd* step) {
   // Transtrum & Sethna (2011): second directional derivative by a finite difference along
-  // the velocity, then the acceleration from the same damped system.
+  // the velocity, then the acceleration from the same damped system. Every buffer is a
+  // member sized with the working set, so a trial allocates nothing.
   constexpr double kProbe = 0.1;
   const int m = static_cast<int>(working_.size());
-  Eigen::VectorXd probe = x;
-  for (int k = 0; k < m; ++k) probe[working_[k]] += kProbe * (*step)[k];
-  Eigen::VectorXd f_probe(f.size());
+  probe_ = x;
+  for (int k = 0; k < m; ++k) probe_[working_[k]] += kProbe * (*step)[k];
   double probe_norm = 0;
-  if (!EvaluateResidual(probe, &f_probe, &probe_norm)) return;
+  if (!EvaluateResidual(probe_, &f_probe_, &probe_norm)) return;
   // Q^T second = (2/h) (Q^T (f_probe - f) / h - R P^T v), as J v = Q R P^T v.
-  Eigen::VectorXd qt_difference(m);
-  ApplyQTranspose(f_probe - f, &qt_difference);
+  ApplyQTransposeToDifference(f_probe_, f, &qt_second_);
   MultiplyByFactor(*step, &factor_step_);
-  Eigen::VectorXd qt_second = (2.0 / kProbe) * (qt_difference / kProbe - factor_step_);
-  Eigen::VectorXd scaled = std::sqrt(lambda) * working_diag_;
-  Eigen::VectorXd acceleration(m);
-  DampedQrSolve(&system_, scaled, qt_second, &acceleration);
-  acceleration = -acceleration;
+  qt_second_ = (2.0 / kProbe) * (qt_second_ / kProbe - factor_step_);
+  geodesic_scaled_ = std::sqrt(lambda) * working_diag_;
+  DampedQrSolve(&system_, geodesic_scaled_, qt_second_, &acceleration_);
+  acceleration_ = -acceleration_;
   const double velocity_norm = working_diag_.cwiseProduct(*step).norm();
-  const double acceleration_norm = working_diag_.cwiseProduct(acceleration).norm();
+  const double acceleration_norm = working_diag_.cwiseProduct(acceleration_).norm();
   if (velocity_norm > 0 && 2 * acceleration_norm <= options.geodesic_max_ratio * velocity_norm) {
-    *step += 0.5 * acceleration;
+    *step += 0.5 * acceleration_;
   }
 }
 
@@ -284,6 +291,30 @@ TrialStep LmState::ComputeTrialStep(double radius, double* lambda,
   // A rejected trial's Jacobian was wasted: values only until the next Jacobian.
   speculate_ = false;
   return trial;
+}
+
+bool LmState::TrialJacobianIsFinite() {
+  if (!trial_has_jacobian_) {
+    ++num_jacobian_evaluations;
+    trial_jacobian_.setConstant(std::numeric_limits<double>::quiet_NaN());
+    problem_.model->EvaluateWithJacobian(problem_.data.predictors, x_trial_.data(), values_.data(),
+                                         trial_jacobian_.data());
+    trial_has_jacobian_ = true;
+  }
+  // The same test EvaluateJacobian applies after weighting, column by column.
+  for (int j : free) {
+    const auto column = trial_jacobian_.col(j);
+    const bool finite =
+        has_weights_ ? column.cwiseProduct(weights_).allFinite() : column.allFinite();
+    if (!finite) return false;
+  }
+  return true;
+}
+
+void LmState::MarkTrialFailed(TrialStep* trial) {
+  trial->fnorm = std::numeric_limits<double>::infinity();
+  trial->actual = -1;
+  trial_fnorm_ = trial->fnorm;
 }
 
 void LmState::Accept() {

@@ -57,6 +57,13 @@ class LmState {
   // Solves the subproblem for `radius`, projects onto the bounds and evaluates the trial.
   TrialStep ComputeTrialStep(double radius, double* lambda,
                              const LevenbergMarquardtOptions& options);
+  // Whether the weighted Jacobian of the free columns is finite at the last trial point;
+  // evaluates it there when the trial brought values only (it is then kept for the next
+  // iteration, so an accepted step costs no extra Jacobian).
+  bool TrialJacobianIsFinite();
+  // Turns the last trial into a failed one (fnorm = inf, actual = -1): a point that the
+  // iteration cannot continue from, as a non-finite Jacobian makes it.
+  void MarkTrialFailed(TrialStep* trial);
   void Accept();
 
   Eigen::VectorXd x;  // p, current point
@@ -78,8 +85,9 @@ class LmState {
   void MultiplyByFactor(const Eigen::VectorXd& step, Eigen::VectorXd* out) const;
   // v <- Q^T v with the reflectors of the last factorisation.
   void ApplyReflectors(Eigen::VectorXd* v);
-  // The first m entries of Q^T v.
-  void ApplyQTranspose(const Eigen::VectorXd& v, Eigen::VectorXd* out);
+  // The first m entries of Q^T (a - b), without a temporary.
+  void ApplyQTransposeToDifference(const Eigen::VectorXd& a, const Eigen::VectorXd& b,
+                                   Eigen::VectorXd* out);
   // Moves the working-order step into x_trial_ within the bounds; true when it was clipped.
   bool ProjectStep(const Eigen::VectorXd& step, Eigen::VectorXd* applied);
   void AddGeodesicAcceleration(double lambda, const LevenbergMarquardtOptions& options,
@@ -110,7 +118,13 @@ class LmState {
   Eigen::VectorXd x_trial_;      // p
   Eigen::VectorXd f_trial_;      // n
   Eigen::VectorXd scratch_n_;    // n
-  double reflector_work_ = 0;    // Eigen's workspace for one reflector on one column
+  // Geodesic acceleration scratch, sized with the working set: no allocation per trial.
+  Eigen::VectorXd probe_;            // p, x + h v
+  Eigen::VectorXd f_probe_;          // n, residual at the probe
+  Eigen::VectorXd qt_second_;        // m, Q^T of the second directional derivative
+  Eigen::VectorXd geodesic_scaled_;  // m, sqrt(lambda) D
+  Eigen::VectorXd acceleration_;     // m
+  double reflector_work_ = 0;        // Eigen's workspace for one reflector on one column
   double trial_fnorm_ = 0;
 };
 
