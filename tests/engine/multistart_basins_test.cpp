@@ -103,7 +103,8 @@ TEST_CASE("Multistart: permuted optima of three identical peaks form one basin",
   CHECK_FALSE(summary.ambiguous_basins);
 }
 
-TEST_CASE("Multistart: without the symmetry the same optima are three basins", "[engine]") {
+TEST_CASE("Multistart: without the symmetry the same-curve fall-back merges permuted optima",
+          "[engine]") {
   const PeaksCase peaks(/*symmetric=*/false);
   MultistartOptions options;
   options.max_starts = 3;  // the candidates only
@@ -111,13 +112,14 @@ TEST_CASE("Multistart: without the symmetry the same optima are three basins", "
       RunMultistart(peaks.problem, peaks.candidates, peaks.box, options);
   INFO(summary.FullReport());
   REQUIRE(summary.num_starts_run == 3);
-  REQUIRE(summary.basins.size() == 3);
-  CHECK(summary.starts[0].basin != summary.starts[1].basin);
-  CHECK(summary.starts[1].basin != summary.starts[2].basin);
-  CHECK(summary.starts[0].basin != summary.starts[2].basin);
-  // Equal cost: each is within the ambiguity gap of the others, and each from one start.
-  CHECK(summary.ambiguous_basins);
-  CHECK(summary.best_basin_single_start);
+  for (int c = 0; c < 3; ++c) REQUIRE(summary.starts[c].converged);
+  // The end points differ by a permutation the model does not declare, so their parameters
+  // do not match; their curves do, and that makes them one basin.
+  CHECK(std::abs(summary.starts[0].end[1] - summary.starts[1].end[1]) > 1);
+  REQUIRE(summary.basins.size() == 1);
+  CHECK(summary.basins[0].num_starts == 3);
+  CHECK_FALSE(summary.ambiguous_basins);
+  CHECK_FALSE(summary.best_basin_single_start);
 }
 
 TEST_CASE("Multistart: basins are sorted by rss with delta and share", "[engine]") {
