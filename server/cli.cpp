@@ -1,10 +1,11 @@
 #include "server/cli.h"
 
-#include "server/demo_command.h"
+#include "server/client_command.h"
 #include "server/compare_command.h"
+#include "server/demo_command.h"
 #include "server/fit_flags.h"
-#include "server/guess_command.h"
 #include "server/fit_service.h"
+#include "server/guess_command.h"
 #include "server/json_codec.h"
 #include "server/serve_command.h"
 #include "server/text_report.h"
@@ -21,6 +22,10 @@ commands:
   guess DATA ...    list the starting guesses a fit would use, no fit (foothold guess --help)
   compare DATA ...  fit several families and rank them by AICc (foothold compare --help)
   serve             run the HTTP daemon (foothold serve --help)
+  submit DATA ...   send a fit to a daemon and print its job id (foothold submit --help)
+  status ID         one line on a daemon's job: state, progress (foothold status --help)
+  wait ID           wait until a daemon's job has finished (foothold wait --help)
+  result ID         print a daemon's finished job as fit does (foothold result --help)
   demo              fit the demo datasets through a temporary daemon (foothold demo --help)
   families          list the model catalogue: name, parameters, formula (--json for JSON)
   help              this text
@@ -29,8 +34,12 @@ options:
   --help, -h        this text
   --version         the version
 
-Exit status: 0 success, 1 the output could not be written, 2 bad input (one line on
-stderr), 3 a fit did not converge.
+The client commands find the daemon at --url or $FOOTHOLD_URL (default
+http://127.0.0.1:8470).
+
+Exit status: 0 success, 1 the output could not be written, 2 bad input, a daemon error or
+no daemon (one line on stderr), 3 a fit did not converge, 4 a job has not finished in
+time, 5 a job failed or was cancelled.
 )TEXT";
 
 constexpr const char* kFamiliesUsage = R"TEXT(usage: foothold families [--json]
@@ -112,9 +121,14 @@ int RunCli(const std::vector<std::string>& args, std::ostream& out, std::ostream
   if (command == "families") return RunFamilies(rest, out, err);
   if (command == "serve") return RunServe(rest, out, err);
   if (command == "demo") return RunDemo(rest, out, err);
-  return BadInput(
-      "unknown command '" + command +
-          "' (commands: fit, guess, compare, families, serve, demo; see foothold --help)", err);
+  if (command == "submit") return RunSubmit(rest, out, err);
+  if (command == "status") return RunStatus(rest, out, err);
+  if (command == "wait") return RunWait(rest, out, err);
+  if (command == "result") return RunResult(rest, out, err);
+  return BadInput("unknown command '" + command +
+                      "' (commands: fit, guess, compare, families, serve, demo, submit, status, "
+                      "wait, result; see foothold --help)",
+                  err);
 }
 
 }  // namespace foothold

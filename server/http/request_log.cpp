@@ -5,7 +5,7 @@
 
 #include <cstdio>
 
-#include "server/json_codec.h"
+#include "server/http/log_codec.h"
 
 namespace foothold {
 
@@ -21,13 +21,7 @@ RequestLog::RequestLog(LogFormat format) : format_(format) {
 void RequestLog::Request(const std::string& method, const std::string& target, int status,
                          double latency_ms, const std::string& job_id) {
   if (format_ == LogFormat::kJson) {
-    Json line = {{"event", "request"},
-                 {"method", method},
-                 {"target", target},
-                 {"status", status},
-                 {"latency_ms", latency_ms}};
-    if (!job_id.empty()) line["job"] = job_id;
-    logger_->info(line.dump(-1, ' ', false, Json::error_handler_t::replace));
+    logger_->info(EncodeRequestLogLine(method, target, status, latency_ms, job_id));
     return;
   }
   char latency[32];
@@ -39,12 +33,7 @@ void RequestLog::Request(const std::string& method, const std::string& target, i
 void RequestLog::Job(const std::string& job_id, const std::string& state, double seconds,
                      const std::string& brief) {
   if (format_ == LogFormat::kJson) {
-    Json line = {{"event", "job"},
-                 {"job", job_id},
-                 {"state", state},
-                 {"seconds", seconds},
-                 {"report", brief}};
-    logger_->info(line.dump(-1, ' ', false, Json::error_handler_t::replace));
+    logger_->info(EncodeJobLogLine(job_id, state, seconds, brief));
     return;
   }
   logger_->info("job {} {} in {:.3f}s: {}", job_id, state, seconds, brief);
@@ -52,7 +41,7 @@ void RequestLog::Job(const std::string& job_id, const std::string& state, double
 
 void RequestLog::Info(const std::string& message) {
   if (format_ == LogFormat::kJson) {
-    logger_->info(Json{{"event", "info"}, {"message", message}}.dump());
+    logger_->info(EncodeMessageLogLine("info", message));
   } else {
     logger_->info("{}", message);
   }
@@ -60,7 +49,7 @@ void RequestLog::Info(const std::string& message) {
 
 void RequestLog::Error(const std::string& message) {
   if (format_ == LogFormat::kJson) {
-    logger_->error(Json{{"event", "error"}, {"message", message}}.dump());
+    logger_->error(EncodeMessageLogLine("error", message));
   } else {
     logger_->error("{}", message);
   }

@@ -6,6 +6,7 @@
 #include <sstream>
 
 #include "server/fit_service.h"
+#include "server/jobs/progress_throttle.h"
 #include "server/json_codec.h"
 
 namespace foothold {
@@ -101,10 +102,10 @@ void WorkerPool::RunJob(const JobRecord& job) {
     if (cancelled_.count(job.id)) is_cancelled = true;
     return is_cancelled.load();
   };
-  hooks.on_progress = [this, &job](int finished, int planned, double best_rss) {
-    JobProgress progress{finished, planned, std::isfinite(best_rss) ? best_rss : 0.0};
-    std::string ignored;
-    store_->UpdateProgress(job.id, progress, &ignored);
+  auto progress =
+      std::make_shared<ProgressThrottle>(store_, job.id, ProgressThrottle::kDefaultInterval);
+  hooks.on_progress = [progress](int finished, int planned, double best_rss) {
+    progress->Report(finished, planned, best_rss);
   };
   FitOutcome outcome;
   JobRecord finished = job;
@@ -112,6 +113,7 @@ void WorkerPool::RunJob(const JobRecord& job) {
   std::string fit_error;
   const bool ran = RunFit(request, hooks, &outcome, &fit_error);
   hooks.should_stop();
+  progress->Flush();
   {
     std::lock_guard<std::mutex> lock(mutex_);
     cancelled_.erase(job.id);
