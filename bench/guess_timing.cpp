@@ -172,9 +172,10 @@ int main(int argc, char** argv) {
   }
   const int repetitions = argc > 1 ? std::max(1, std::atoi(argv[1])) : 20;
   const int multistart_repetitions = argc > 2 ? std::max(1, std::atoi(argv[2])) : 3;
-  std::printf("load average %s; processor time, medians of %d guesses and local fits, %d "
-              "multistart runs (1 thread)\n\n",
-              LoadAverage().c_str(), repetitions, multistart_repetitions);
+  std::printf(
+      "load average %s; processor time, medians of %d guesses and local fits, %d "
+      "multistart runs (1 thread)\n\n",
+      LoadAverage().c_str(), repetitions, multistart_repetitions);
   // The corpus's second case of every family has the most points.
   const std::vector<corpus::CorpusCase> cases = corpus::GenerateCorpus(20261201, 2);
   std::printf(
@@ -198,8 +199,8 @@ int main(int argc, char** argv) {
       worst_share = share;
       worst_family = t.family;
     }
-    std::printf("| %s | %d | %.3f | %.3f | %.1f | %d (%s) | %.1f%% | %.2f%% |\n",
-                t.family.c_str(), t.num_points, 1e3 * t.guess_seconds, 1e3 * t.local_seconds,
+    std::printf("| %s | %d | %.3f | %.3f | %.1f | %d (%s) | %.1f%% | %.2f%% |\n", t.family.c_str(),
+                t.num_points, 1e3 * t.guess_seconds, 1e3 * t.local_seconds,
                 1e3 * t.multistart_seconds, t.num_starts, t.stop.c_str(),
                 100 * t.guess_seconds / t.local_seconds, 100 * share);
   }

@@ -75,6 +75,10 @@ class CandidateSet {
   // The prepared curve on which Add solves the linear parameters (the full data when
   // unset); candidates are always scored on the full data.
   void SetCurve(const Curve* curve) { curve_ = curve; }
+  // The full data the candidates are scored on (x in input order, not binned).
+  const Eigen::MatrixXd& DataX() const { return x_; }
+  const Eigen::VectorXd& DataY() const { return y_; }
+  const Eigen::VectorXd& DataWeight() const { return weight_; }
   const Eigen::VectorXd& Lower() const { return lower_; }
   const Eigen::VectorXd& Upper() const { return upper_; }
 

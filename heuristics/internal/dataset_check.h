@@ -17,10 +17,9 @@ inline bool ValidateDataset(const Dataset& data, std::string* error) {
       data.predictors.rows() == n &&
       static_cast<size_t>(data.predictors.cols()) == data.predictor_names.size() &&
       (data.sigma.size() == 0 || data.sigma.size() == n);
-  const bool is_valid = has_valid_sizes && data.response.allFinite() &&
-                        data.predictors.allFinite() &&
-                        (data.sigma.size() == 0 ||
-                         (data.sigma.allFinite() && (data.sigma.array() > 0.0).all()));
+  const bool is_valid =
+      has_valid_sizes && data.response.allFinite() && data.predictors.allFinite() &&
+      (data.sigma.size() == 0 || (data.sigma.allFinite() && (data.sigma.array() > 0.0).all()));
   return is_valid || data.Validate(error);
 }
 

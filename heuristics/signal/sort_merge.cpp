@@ -18,6 +18,14 @@ bool IsFinitePoint(const Eigen::VectorXd& x, const Eigen::VectorXd& y, const Eig
   return sigma.size() == 0 || std::isfinite(sigma[i]);
 }
 
+// Sorted x whose neighbours are all more than `tolerance` apart: no run to merge.
+bool HasNoCloseNeighbours(const Eigen::VectorXd& x, double tolerance) {
+  for (Eigen::Index i = 1; i < x.size(); ++i) {
+    if (!(x[i] - x[i - 1] > tolerance)) return false;
+  }
+  return true;
+}
+
 }  // namespace
 
 bool SortMergeOptions::Validate(std::string* error) const {
@@ -76,12 +84,25 @@ PreparedCurve SortAndMerge(const Eigen::VectorXd& x, const Eigen::VectorXd& y,
   // Measured series usually arrive sorted; a stable sort leaves them as they are, so the
   // O(n log n) sort runs only when a pair is out of order.
   const auto is_before = [&x](Eigen::Index a, Eigen::Index b) { return x[a] < x[b]; };
-  if (!std::is_sorted(order.begin(), order.end(), is_before)) {
-    std::stable_sort(order.begin(), order.end(), is_before);
-  }
+  const bool was_sorted = std::is_sorted(order.begin(), order.end(), is_before);
+  if (!was_sorted) std::stable_sort(order.begin(), order.end(), is_before);
 
   const double span = order.empty() ? 0.0 : x[order.back()] - x[order.front()];
   const double tolerance = options.relative_x_tolerance * span;
+  if (was_sorted && order.size() == static_cast<size_t>(x.size()) && x.size() > 1 &&
+      HasNoCloseNeighbours(x, tolerance)) {
+    // Nothing to reorder or merge: the input is the output.
+    out.x = x;
+    out.y = y;
+    if (has_sigma) out.sigma = sigma;
+    out.multiplicity = Eigen::VectorXi::Ones(x.size());
+    if (x.size() < options.min_points) {
+      out.status = SignalStatus::kTooFewPoints;
+      text << x.size() << " distinct x values: need at least " << options.min_points;
+      out.message = text.str();
+    }
+    return out;
+  }
   std::vector<double> merged_x, merged_y, merged_sigma;
   std::vector<int> counts;
   merged_x.reserve(order.size());
