@@ -191,6 +191,7 @@ class ParameterProfiler {
   }
 
   RefitOutcome Refit(double value, const Eigen::VectorXd& warm, ProfilePoint* point) {
+    if (!stop_reason_.empty()) return RefitOutcome::kStopped;  // the other side was stopped
     const double elapsed = std::chrono::duration<double>(Clock::now() - started_).count();
     if (elapsed >= options_.deadline_seconds) {
       stop_reason_ = "profile deadline of " + Format(options_.deadline_seconds) + " s passed";

@@ -148,6 +148,7 @@ void CheckEqualsWald(const Problem& problem, const Eigen::VectorXd& optimum) {
   const ProfileLikelihoodSummary summary = ComputeProfileLikelihood(problem, optimum);
   REQUIRE(summary.is_computed);
   for (int j = 0; j < problem.NumParameters(); ++j) {
+    if (problem.IsFixed(j)) continue;
     INFO("parameter " << j << ": " << summary.intervals[j].message);
     const ProfileInterval& interval = summary.intervals[j];
     REQUIRE(interval.IsClosed());
@@ -178,6 +179,41 @@ TEST_CASE("ProfileLikelihood: a line's profile interval is its Wald interval", "
     // chi2_{1,0.95} = 1.959964^2 = 3.841459 (standard normal quantile, from memory).
     CHECK(summary.cost_increase == Approx(3.8414588207).epsilon(1e-9));
   }
+}
+
+TEST_CASE("ProfileLikelihood: with the only other parameter fixed, refits only evaluate",
+          "[engine]") {
+  const LineModel model;
+  Eigen::VectorXd x(12), y(12);
+  x << 1, 2, 3, 4, 5, 6, 7, 8, 9, 10, 11, 12;
+  y << 2.1, 3.9, 6.2, 7.8, 10.1, 12.2, 13.8, 16.1, 18.3, 19.7, 22.4, 23.9;
+  Problem problem = MakeProblem(model, x, y);
+  problem.is_fixed = {false, true};
+  const Eigen::VectorXd optimum = Fit(problem, Eigen::Vector2d(1, 0.5));
+  CheckEqualsWald(problem, optimum);
+  const ProfileLikelihoodSummary summary = ComputeProfileLikelihood(problem, optimum);
+  CHECK(summary.intervals[0].num_refits == 2);  // each Wald end is the crossing
+  CHECK_FALSE(summary.intervals[1].is_profiled);
+}
+
+TEST_CASE("ProfileLikelihood: a cancelling refit callback stops every end", "[engine]") {
+  const ExpDecayModel model;
+  const Curve curve = ExpDecayCurve();
+  const Problem problem = MakeProblem(model, curve.x, curve.y);
+  const Eigen::VectorXd optimum = Fit(problem, Eigen::Vector3d(5, 2, 0.5));
+  ProfileLikelihoodOptions options;
+  options.use_variable_projection = false;
+  options.refit.callback = [](int, double) { return false; };
+  const ProfileLikelihoodSummary summary = ComputeProfileLikelihood(problem, optimum, options);
+  REQUIRE(summary.is_computed);
+  CHECK(summary.num_refits == 1);
+  for (const ProfileInterval& interval : summary.intervals) {
+    INFO(interval.message);
+    CHECK(interval.lower_end == ProfileEnd::kStopped);
+    CHECK(interval.lower == -kInfinity());
+    CHECK(interval.message.find("stopped") != std::string::npos);
+  }
+  CHECK(summary.intervals[0].message.find("refit cancelled") != std::string::npos);
 }
 
 TEST_CASE("ProfileLikelihood: a quadratic's profile interval is its Wald interval", "[engine]") {
