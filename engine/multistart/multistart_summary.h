@@ -41,13 +41,17 @@ struct StartRecord {
 
 // A distinct optimum: the converged starts that end there, modulo symmetries.
 struct Basin {
-  int id = 0;                     // 0 is the best; ids follow increasing rss
-  double rss = 0;                 // of the representative (the basin's lowest-rss start)
+  int id = 0;  // 0 is the best; ids follow increasing rss
+  // The representative is the basin's lowest-rss start (ties: lowest index); its basin
+  // may hold starts whose parameters differ but whose curves agree (same-curve merge).
+  double rss = 0;                 // of the representative
   double delta_rss = 0;           // rss - rss of basin 0
   int num_starts = 0;             // converged starts in this basin
   double share = 0;               // num_starts / converged starts
   int representative_start = -1;  // StartRecord::index of the representative
-  Eigen::VectorXd parameters;     // the representative end point in canonical order
+  // The representative end point in canonical form: Model::CanonicalizeParameters inside
+  // the bounds (sine amplitude >= 0, phase in [-pi, pi), ...), then peaks by center.
+  Eigen::VectorXd parameters;
   // From ComputeFitStatistics at `parameters`; NaN where not identifiable, 0 when fixed.
   Eigen::VectorXd standard_errors;
   bool has_standard_errors = false;
