@@ -87,22 +87,24 @@ bool PrepareCurve(const Dataset& data, const std::string& family, int min_points
 double SolveSmallLeastSquares(const Eigen::MatrixXd& design, const Eigen::VectorXd& y,
                               const Eigen::VectorXd& weight, Eigen::VectorXd* coefficients) {
   const int p = static_cast<int>(design.cols());
-  Eigen::MatrixXd scaled = design;
+  // The normal equations of the unit-norm columns D^-1 (A^T W A) D^-1, D the column norms,
+  // formed from A^T W A directly: one n x p temporary instead of three.
+  const Eigen::MatrixXd weighted = weight.asDiagonal() * design;
+  Eigen::MatrixXd normal = design.transpose() * weighted;
+  Eigen::VectorXd rhs = weighted.transpose() * y;
   Eigen::VectorXd norms(p);
   for (int j = 0; j < p; ++j) {
-    norms[j] = std::sqrt((scaled.col(j).array().square() * weight.array()).sum());
+    norms[j] = std::sqrt(normal(j, j));
     if (!(norms[j] > 0) || !std::isfinite(norms[j])) return kInf;
-    scaled.col(j) /= norms[j];
   }
-  const Eigen::MatrixXd weighted = scaled.transpose() * weight.asDiagonal();
-  const Eigen::MatrixXd normal = weighted * scaled;
+  normal = norms.asDiagonal().inverse() * normal * norms.asDiagonal().inverse();
+  rhs = rhs.cwiseQuotient(norms);
   const Eigen::LDLT<Eigen::MatrixXd> ldlt(normal);
   // A pivot far below the unit diagonal means nearly dependent columns.
   constexpr double kMinPivot = 1e-12;
   if (ldlt.info() != Eigen::Success || !(ldlt.vectorD().minCoeff() > kMinPivot)) return kInf;
-  const Eigen::VectorXd solution = ldlt.solve(weighted * y);
-  *coefficients = solution.array() / norms.array();
-  const double rss = ((y - scaled * solution).array().square() * weight.array()).sum();
+  *coefficients = ldlt.solve(rhs).cwiseQuotient(norms);
+  const double rss = ((y - design * *coefficients).array().square() * weight.array()).sum();
   return coefficients->allFinite() && std::isfinite(rss) ? rss : kInf;
 }
 
@@ -207,26 +209,29 @@ double CandidateSet::SolveLinear(Eigen::VectorXd* parameters, const Eigen::Matri
                                  const Eigen::VectorXd& y, const Eigen::VectorXd& weight) const {
   if (linear_.empty()) return CurveRss(*parameters, x, y, weight);
   const int n = static_cast<int>(y.size());
-  Eigen::VectorXd values(n);
+  Eigen::VectorXd values = Eigen::VectorXd::Constant(n, std::nan(""));
   Eigen::MatrixXd jacobian(n, num_parameters_);
   model_.EvaluateWithJacobian(x, parameters->data(), values.data(), jacobian.data());
+  const Eigen::VectorXd residual = y - values;
+  double before = (residual.array().square() * weight.array()).sum();
+  if (!std::isfinite(before)) before = kInf;
   // f = sum_{j in L} p_j B_j + C, with B_j the Jacobian column; solve for p_L.
   Eigen::MatrixXd design(n, linear_.size());
-  Eigen::VectorXd target = y - values;
+  Eigen::VectorXd target = residual;
   for (size_t k = 0; k < linear_.size(); ++k) {
     design.col(k) = jacobian.col(linear_[k]);
     target += design.col(k) * (*parameters)[linear_[k]];
   }
   if (!design.allFinite() || !target.allFinite()) return kInf;
   Eigen::VectorXd coefficients;
-  if (!std::isfinite(SolveSmallLeastSquares(design, target, weight, &coefficients))) {
-    return CurveRss(*parameters, x, y, weight);
-  }
+  if (!std::isfinite(SolveSmallLeastSquares(design, target, weight, &coefficients))) return before;
   Eigen::VectorXd refined = *parameters;
   for (size_t k = 0; k < linear_.size(); ++k) {
     refined[linear_[k]] = Clamp(linear_[k], coefficients[k]);
   }
-  const double before = CurveRss(*parameters, x, y, weight);
+  // Evaluated, not extrapolated along the basis columns: when the model at the old values is
+  // far larger than the data (a power of a tiny x), y - f has lost the data's digits and
+  // only a fresh evaluation gives the true rss.
   const double after = CurveRss(refined, x, y, weight);
   if (after <= before) {
     *parameters = refined;
