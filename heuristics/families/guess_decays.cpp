@@ -144,9 +144,10 @@ void GuessBiexpDecay(const Curve& curve, CandidateSet* set) {
   }
   Eigen::VectorXd best;
   if (BestOnCurve(*set, sub, starts, &best)) set->Add("profile", best);
-  // Pattern search of both lifetimes (in log) from the best candidate so far.
+  // Pattern search of both lifetimes (in log) from the best candidate so far, on the
+  // profile's subsample: the polish places the start in the valley, the fit finishes it.
   if (set->Best(&best)) {
-    PolishProfile(*set, curve, {1, 3}, {0.3, 0.3}, {true, true}, kPolishEvaluations, &best,
+    PolishProfile(*set, sub, {1, 3}, {0.3, 0.3}, {true, true}, kPolishEvaluations, &best,
                   TauFloor(curve));
     set->Add("polished", best);
   }
@@ -193,7 +194,7 @@ void GuessStretchedExp(const Curve& curve, CandidateSet* set) {
   Eigen::VectorXd best;
   if (BestOnCurve(*set, sub, all, &best)) set->Add("profile", best);
   if (set->Best(&best)) {
-    PolishProfile(*set, curve, {1, 2}, {0.3, 0.2}, {true, true}, kPolishEvaluations, &best);
+    PolishProfile(*set, sub, {1, 2}, {0.3, 0.2}, {true, true}, kPolishEvaluations, &best);
     set->Add("polished", best);
   }
   set->SetScale(0, curve.YSpan(), false);
