@@ -13,6 +13,11 @@ namespace foothold {
 namespace {
 
 constexpr double kExactTolerance = 1e-9;
+// Coefficients in powers of x near 1000 carry cancellation of about 1e6 between terms.
+constexpr double kOffsetTolerance = 1e-8;
+// Noise-free T_16 sampled at 400 points (sum of y^2 ~ 200): a least-squares fit of
+// degree 16 leaves rounding only.
+constexpr double kHighDegreeRss = 1e-12;
 // FWHM = 2 sqrt(2 ln 2) sigma for a Gaussian (a textbook identity, value from memory).
 constexpr double kFwhmPerSigma = 2.3548200450309493;
 constexpr double kWidthTolerance = 0.1;       // relative, noise-free single peaks
@@ -115,6 +120,37 @@ TEST_CASE("GuessFamily: line and polynomial are solved exactly on noise-free dat
   const Guessed two = Guess(Named("line"), MakeData(Eigen::Vector2d(1, 3), Eigen::Vector2d(2, 6)));
   REQUIRE(two.ok);
   CHECK(two.result.candidates[0].parameters[0] == Approx(2.0).epsilon(kExactTolerance));
+}
+
+TEST_CASE("GuessFamily: polynomials on x far from 0 and of high degree are still exact",
+          "[heuristics]") {
+  // x in [1000, 1001]: in powers of x the columns are nearly parallel; centred they are not.
+  const Eigen::VectorXd x = Grid(200, 1000.0, 1001.0);
+  const Eigen::VectorXd u = x.array() - 1000.0;
+  const Eigen::VectorXd y = (1.0 + 2.0 * u.array() + 3.0 * u.array().square()).matrix();
+  FamilyRequest quadratic = Named("polynomial");
+  quadratic.degree = 2;
+  const Guessed guessed = Guess(quadratic, MakeData(x, y));
+  REQUIRE(guessed.ok);
+  // 1 + 2 (x - 1000) + 3 (x - 1000)^2 = 2998001 - 5998 x + 3 x^2.
+  const Eigen::VectorXd& p = guessed.result.candidates[0].parameters;
+  CHECK(p[0] == Approx(2998001.0).epsilon(kOffsetTolerance));
+  CHECK(p[1] == Approx(-5998.0).epsilon(kOffsetTolerance));
+  CHECK(p[2] == Approx(3.0).epsilon(kOffsetTolerance));
+
+  // Degree 16: the normal equations' pivots fall below 1e-8 of the largest (1e-11 here, by
+  // scipy.linalg.ldl of the Gram matrix), so pivoted QR solves instead.
+  FamilyRequest high = Named("polynomial");
+  high.degree = 16;
+  const Eigen::VectorXd t = Grid(400, -1.0, 1.0);
+  Eigen::VectorXd chebyshev = Eigen::VectorXd::Zero(t.size());
+  for (Eigen::Index i = 0; i < t.size(); ++i) chebyshev[i] = std::cos(16.0 * std::acos(t[i]));
+  const Guessed degree16 = Guess(high, MakeData(t, chebyshev));
+  REQUIRE(degree16.ok);
+  INFO("rss " << degree16.result.candidates[0].rss);
+  CHECK(degree16.result.candidates[0].rss < kHighDegreeRss);
+  // T_16 has leading coefficient 2^15 (Chebyshev polynomials, a textbook identity).
+  CHECK(degree16.result.candidates[0].parameters[16] == Approx(32768.0).epsilon(1e-6));
 }
 
 TEST_CASE("GuessFamily: peak widths follow from the half-height width", "[heuristics]") {

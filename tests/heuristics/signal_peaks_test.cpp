@@ -107,6 +107,46 @@ TEST_CASE("FindPeaks: negative-going peaks when asked", "[heuristics]") {
   CHECK(found.baseline.At(50.0) == Approx(2.5).margin(0.1));
 }
 
+TEST_CASE("FindPeaks: one shared smoothing gives the same peaks and dips as separate runs",
+          "[heuristics]") {
+  // A curve with both peaks and dips, so that both directions find something.
+  PreparedCurve curve = MakeCurve({{5.0, 20.0, 2.0}, {3.0, 75.0, 3.0}}, 1.0, kNoise, 99);
+  REQUIRE(curve.IsOk());
+  for (Eigen::Index i = 0; i < curve.x.size(); ++i) {
+    const double z = (curve.x[i] - 50.0) / 2.5;
+    curve.y[i] -= 4.0 * std::exp(-0.5 * z * z);
+  }
+  PeakOptions options;
+  const PeakSmoothing smoothing = SmoothForPeaks(curve.x, curve.y, options);
+  REQUIRE(smoothing.IsOk());
+  for (bool negative : {false, true}) {
+    INFO("negative " << negative);
+    options.negative = negative;
+    const PeakList separate = FindPeaks(curve.x, curve.y, options);
+    const PeakList shared = FindPeaks(curve.x, curve.y, smoothing, options);
+    REQUIRE(separate.IsOk());
+    REQUIRE(shared.IsOk());
+    REQUIRE(!shared.peaks.empty());
+    REQUIRE(shared.peaks.size() == separate.peaks.size());
+    for (size_t k = 0; k < shared.peaks.size(); ++k) {
+      CHECK(shared.peaks[k].center == separate.peaks[k].center);
+      CHECK(shared.peaks[k].height == separate.peaks[k].height);
+      CHECK(shared.peaks[k].fwhm == separate.peaks[k].fwhm);
+      CHECK(shared.peaks[k].prominence == separate.peaks[k].prominence);
+    }
+    CHECK(shared.noise_sigma == separate.noise_sigma);
+    CHECK(shared.smoothed.half_window == separate.smoothed.half_window);
+    CHECK(shared.smoothed.value == separate.smoothed.value);
+  }
+  // A smoothing that failed is passed on with its status and message.
+  const Eigen::VectorXd two = Eigen::VectorXd::LinSpaced(2, 0.0, 1.0);
+  const PeakSmoothing failed = SmoothForPeaks(two, two, options);
+  CHECK(failed.status == SignalStatus::kTooFewPoints);
+  const PeakList none = FindPeaks(two, two, failed, options);
+  CHECK(none.status == failed.status);
+  CHECK(none.message == failed.message);
+}
+
 TEST_CASE("FindPeaks: dense random sampling with flat, jittery tops", "[heuristics]") {
   // 5000 uniformly random x: about 75 samples per sigma, so the smoothed top holds many
   // sample-level local maxima; each peak must still come out once, with its full prominence.

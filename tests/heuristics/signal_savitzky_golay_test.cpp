@@ -1,8 +1,10 @@
 // Savitzky-Golay smoothing and derivatives on even and uneven x.
 
+#include <algorithm>
 #include <catch2/catch.hpp>
 #include <cmath>
 #include <random>
+#include <string>
 
 #include "heuristics/signal/savitzky_golay.h"
 
@@ -12,6 +14,8 @@ namespace {
 
 constexpr double kCoefficientTolerance = 1e-12;
 constexpr double kPolynomialTolerance = 1e-9;
+// Two factorisations of the same small Gram matrix (|t| <= 1) agree to rounding.
+constexpr double kAgreementTolerance = 1e-9;
 
 TEST_CASE("SavitzkyGolayWeights: 5-point quadratic reproduces the published tables",
           "[heuristics]") {
@@ -80,6 +84,44 @@ TEST_CASE("SmoothSavitzkyGolay: exact on a quadratic with uneven, jittered x", "
     CHECK(smooth.value[i] == Approx(y[i]).margin(kPolynomialTolerance));
     CHECK(smooth.first_derivative[i] == Approx(-0.5 + 0.04 * x[i]).margin(kPolynomialTolerance));
     CHECK(smooth.second_derivative[i] == Approx(0.04).margin(kPolynomialTolerance));
+  }
+}
+
+TEST_CASE("SmoothSavitzkyGolay: agrees with the explicit weights on uneven x, ends included",
+          "[heuristics]") {
+  // The smoother solves each window with its Gram matrix; SavitzkyGolayWeights forms the
+  // weight rows. Both are the same least-squares polynomial, so they must agree.
+  std::mt19937 rng(23);
+  std::uniform_real_distribution<double> jitter(-0.45, 0.45);
+  std::normal_distribution<double> noise(0.0, 0.1);
+  const int n = 40;
+  Eigen::VectorXd x(n), y(n);
+  for (int i = 0; i < n; ++i) {
+    x[i] = 1e-3 * (i + jitter(rng));
+    y[i] = std::sin(300.0 * x[i]) + noise(rng);
+  }
+  for (int order : {2, 3, 4}) {
+    SavitzkyGolayOptions options;
+    options.polynomial_order = order;
+    options.half_window = 3;
+    const SmoothedCurve smooth = SmoothSavitzkyGolay(x, y, options);
+    REQUIRE(smooth.IsOk());
+    for (int i : {0, 1, 2, 3, 19, n - 2, n - 1}) {
+      INFO("order " << order << " point " << i);
+      const int lo = std::clamp(i - 3, 0, n - 7);
+      const Eigen::VectorXd window_x = x.segment(lo, 7);
+      const Eigen::VectorXd window_y = y.segment(lo, 7);
+      Eigen::VectorXd weights;
+      std::string error;
+      REQUIRE(SavitzkyGolayWeights(window_x, x[i], order, 0, &weights, &error));
+      CHECK(smooth.value[i] == Approx(weights.dot(window_y)).epsilon(kAgreementTolerance));
+      REQUIRE(SavitzkyGolayWeights(window_x, x[i], order, 1, &weights, &error));
+      CHECK(smooth.first_derivative[i] ==
+            Approx(weights.dot(window_y)).epsilon(kAgreementTolerance));
+      REQUIRE(SavitzkyGolayWeights(window_x, x[i], order, 2, &weights, &error));
+      CHECK(smooth.second_derivative[i] ==
+            Approx(weights.dot(window_y)).epsilon(kAgreementTolerance));
+    }
   }
 }
 

@@ -47,6 +47,29 @@ TEST_CASE("SortAndMerge: x equal up to rounding merge", "[heuristics]") {
   CHECK(curve.y[0] == Approx(2.0));
 }
 
+TEST_CASE("SortAndMerge: sorted, distinct input comes back as it is", "[heuristics]") {
+  const Eigen::VectorXd x = Vec({-2, 0.5, 0.75, 3, 10});
+  const Eigen::VectorXd y = Vec({4, 1, 2, 8, 5});
+  const Eigen::VectorXd sigma = Vec({1, 2, 1, 0.5, 1});
+  const PreparedCurve curve = SortAndMerge(x, y, sigma);
+  REQUIRE(curve.IsOk());
+  CHECK(curve.x == x);
+  CHECK(curve.y == y);
+  CHECK(curve.sigma == sigma);
+  CHECK(curve.multiplicity == Eigen::VectorXi::Ones(5));
+  CHECK(curve.num_merged == 0);
+  // Sorted with one repeated x: merged as before.
+  const PreparedCurve repeated = SortAndMerge(Vec({0, 1, 1, 2}), Vec({1, 2, 4, 3}));
+  REQUIRE(repeated.IsOk());
+  CHECK(repeated.x == Vec({0, 1, 2}));
+  CHECK(repeated.y == Vec({1, 3, 3}));
+  // Too few points is still reported.
+  const PreparedCurve short_curve = SortAndMerge(Vec({0, 1}), Vec({1, 2}));
+  CHECK(short_curve.status == SignalStatus::kTooFewPoints);
+  CHECK(short_curve.message == "2 distinct x values: need at least 3");
+  CHECK(short_curve.x == Vec({0, 1}));
+}
+
 TEST_CASE("SortAndMerge: degenerate inputs give clear statuses", "[heuristics]") {
   const double nan = std::numeric_limits<double>::quiet_NaN();
   const double inf = std::numeric_limits<double>::infinity();
