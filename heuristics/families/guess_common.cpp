@@ -209,35 +209,37 @@ double CandidateSet::SolveLinear(Eigen::VectorXd* parameters, const Eigen::Matri
                                  const Eigen::VectorXd& y, const Eigen::VectorXd& weight) const {
   if (linear_.empty()) return CurveRss(*parameters, x, y, weight);
   const int n = static_cast<int>(y.size());
-  Eigen::VectorXd values = Eigen::VectorXd::Constant(n, std::nan(""));
+  // f = sum_{j in L} p_j B_j + C, with B_j the Jacobian column. Evaluated with p_L = 0 the
+  // model gives C itself, so y - C carries no cancellation against a large sum p_j B_j
+  // (a power of a tiny x), and every rss below follows from B and C without evaluating
+  // the model again.
+  Eigen::VectorXd base = *parameters;
+  for (int j : linear_) base[j] = 0.0;
+  Eigen::VectorXd rest = Eigen::VectorXd::Constant(n, std::nan(""));
   Eigen::MatrixXd jacobian(n, num_parameters_);
-  model_.EvaluateWithJacobian(x, parameters->data(), values.data(), jacobian.data());
-  const Eigen::VectorXd residual = y - values;
-  double before = (residual.array().square() * weight.array()).sum();
-  if (!std::isfinite(before)) before = kInf;
-  // f = sum_{j in L} p_j B_j + C, with B_j the Jacobian column; solve for p_L.
+  model_.EvaluateWithJacobian(x, base.data(), rest.data(), jacobian.data());
   Eigen::MatrixXd design(n, linear_.size());
-  Eigen::VectorXd target = residual;
+  Eigen::VectorXd linear_values(linear_.size());
   for (size_t k = 0; k < linear_.size(); ++k) {
     design.col(k) = jacobian.col(linear_[k]);
-    target += design.col(k) * (*parameters)[linear_[k]];
+    linear_values[k] = (*parameters)[linear_[k]];
   }
-  if (!design.allFinite() || !target.allFinite()) return kInf;
+  if (!design.allFinite() || !rest.allFinite()) return CurveRss(*parameters, x, y, weight);
+  const Eigen::VectorXd target = y - rest;
+  const auto rss_of = [&](const Eigen::VectorXd& values) {
+    const double rss = ((target - design * values).array().square() * weight.array()).sum();
+    return std::isfinite(rss) ? rss : kInf;
+  };
+  const double before = rss_of(linear_values);
   Eigen::VectorXd coefficients;
   if (!std::isfinite(SolveSmallLeastSquares(design, target, weight, &coefficients))) return before;
-  Eigen::VectorXd refined = *parameters;
   for (size_t k = 0; k < linear_.size(); ++k) {
-    refined[linear_[k]] = Clamp(linear_[k], coefficients[k]);
+    coefficients[k] = Clamp(linear_[k], coefficients[k]);
   }
-  // Evaluated, not extrapolated along the basis columns: when the model at the old values is
-  // far larger than the data (a power of a tiny x), y - f has lost the data's digits and
-  // only a fresh evaluation gives the true rss.
-  const double after = CurveRss(refined, x, y, weight);
-  if (after <= before) {
-    *parameters = refined;
-    return after;
-  }
-  return before;
+  const double after = rss_of(coefficients);
+  if (!(after <= before)) return before;
+  for (size_t k = 0; k < linear_.size(); ++k) (*parameters)[linear_[k]] = coefficients[k];
+  return after;
 }
 
 double CandidateSet::RefineLinear(Eigen::VectorXd* parameters, const Curve* curve) const {
