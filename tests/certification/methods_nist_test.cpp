@@ -16,32 +16,16 @@
 #include "engine/solve/local_fit.h"
 #include "engine/solve/problem.h"
 #include "tests/certification/certification_support.h"
+#include "tests/certification/nist_checks.h"
 #include "tests/certification/nist_strd.h"
 
 namespace foothold {
 namespace certification {
 namespace {
 
-// NIST StRD pass mark: log relative error >= 6 on every parameter and on the RSS.
-constexpr double kCertifiedDigits = 6.0;
+// The pass mark is kCertifiedDigits (nist_checks.h) on every parameter and on the RSS.
 const std::vector<std::string> kLowerDifficulty = {"Misra1a", "Chwirut2", "Chwirut1", "Lanczos3",
                                                    "Gauss1",  "Gauss2",   "DanWood",  "Misra1b"};
-
-const NistProblem& FindProblem(const std::string& name) {
-  static const std::vector<NistProblem> problems = [] {
-    std::vector<NistProblem> loaded;
-    std::string error;
-    if (!LoadNistProblems(FOOTHOLD_NIST_DIR, &loaded, &error)) {
-      FAIL("NIST StRD: cannot load " << FOOTHOLD_NIST_DIR << ": " << error);
-    }
-    return loaded;
-  }();
-  for (const NistProblem& p : problems) {
-    if (p.name == name) return p;
-  }
-  FAIL("NIST StRD: no problem " << name);
-  return problems.front();
-}
 
 struct MethodRun {
   LocalFitSummary summary;
@@ -78,7 +62,7 @@ TEST_CASE("Methods: Gauss-Newton and BFGS reach the NIST StRD lower-difficulty o
           "[certification]") {
   for (LocalMethod method : {LocalMethod::kGaussNewton, LocalMethod::kBfgs}) {
     for (const std::string& name : kLowerDifficulty) {
-      const NistProblem& p = FindProblem(name);
+      const NistProblem& p = FindNistProblem(name);
       const MethodRun run = Fit(p, p.start2, method);
       std::printf("%-12s %-9s iter %4d evals %5d LRE(b) %5.1f LRE(rss) %5.1f %s\n",
                   ToString(method), name.c_str(), run.summary.num_iterations,
@@ -99,7 +83,7 @@ TEST_CASE("Methods: Gauss-Newton and BFGS reach the NIST StRD lower-difficulty o
 TEST_CASE(
     "Methods: from MGH09's far Start 1 Gauss-Newton stalls where Levenberg-Marquardt does not",
     "[certification]") {
-  const NistProblem& p = FindProblem("MGH09");
+  const NistProblem& p = FindNistProblem("MGH09");
   const MethodRun gauss_newton = Fit(p, p.start1, LocalMethod::kGaussNewton, false);
   const MethodRun lm = Fit(p, p.start1, LocalMethod::kLevenbergMarquardt, false);
   INFO("gauss-newton: " << gauss_newton.summary.message);

@@ -26,68 +26,16 @@
 #include "engine/solve/problem.h"
 #include "engine/stats/fit_statistics.h"
 #include "tests/certification/certification_support.h"
+#include "tests/certification/nist_checks.h"
 
 namespace foothold {
 namespace certification {
 namespace {
 
-// A pass is this many correct significant digits on every parameter and on the RSS
-// (DESIGN.md §7; the README's baseline counts problems with LRE >= 6).
-constexpr double kCertifiedDigits = 6.0;
-// Certified standard deviations: software studies treat about 4 digits as the least that is
-// acceptable (tests/data/nist-strd/README.md, "Scoring a solver").
-constexpr double kCertifiedSdDigits = 4.0;
-// Lanczos1's certified RSS (1.43e-25) lies below what double precision resolves at those
-// parameters (README.md, "Quirks"): the check there is that the RSS is tiny.
-constexpr double kLanczos1RssCeiling = 1e-20;
-// Lanczos1's standard deviations inherit the RSS's rounding (see KnownShortfalls below).
-constexpr double kLanczos1SdDigits = 2.5;
 // The model evaluated at the certified values reproduces the certified RSS to 10.0 to 12.7
 // digits in float64 (README.md, "Checks done"); an evaluation order different from NIST's
 // may lose a digit, so 9 is required of the expression model.
 constexpr double kRssAtCertifiedDigits = 9.0;
-
-// A problem that cannot reach the thresholds above from one start: the check asserts the
-// figures it does reach (measured, see docs/certification.md) and says why. Only the
-// lowered figure differs from the thresholds above; Lanczos1 keeps its RSS ceiling.
-struct ReachedFigures {
-  const char* problem;
-  int start;
-  double min_param_lre;
-  double rss_lre;
-  double min_sd_lre;
-  const char* why;
-};
-const std::vector<ReachedFigures>& KnownShortfalls() {
-  // Lanczos1: the certified standard deviations are sqrt(diag((J^T J)^-1) * rss / dof), so
-  // their relative error is half that of the RSS. The RSS (1.43e-25) is a sum of residuals of
-  // about 8e-14 on responses up to 2.5, where rounding of each value is about 4e-16: the RSS
-  // holds about 3 digits (measured RSS LRE 2.6 to 2.9 over solver and expression-evaluation
-  // revisions) and the standard deviations 2.9 to 3.2; the digits move with rounding noise,
-  // so the floor is 2.5. The parameters still reach 10.6, the RSS check (< 1e-20) holds, and
-  // the standard deviations rescaled to the certified RSS must still meet kCertifiedSdDigits
-  // (kLanczos1 check below). scipy's MINPACK (tests/reference/nist_scipy.py) reaches 3.3 to
-  // 3.4 on the raw figure: a float64 limit, not a solver fault.
-  static const std::vector<ReachedFigures> shortfalls = {
-      {"Lanczos1", 1, kCertifiedDigits, kCertifiedDigits, kLanczos1SdDigits,
-       "standard deviations limited to ~3 digits by the float64 resolution of RSS ~1e-25"},
-      {"Lanczos1", 2, kCertifiedDigits, kCertifiedDigits, kLanczos1SdDigits,
-       "standard deviations limited to ~3 digits by the float64 resolution of RSS ~1e-25"},
-  };
-  return shortfalls;
-}
-
-const std::vector<NistProblem>& Problems() {
-  static const std::vector<NistProblem> problems = [] {
-    std::vector<NistProblem> loaded;
-    std::string error;
-    if (!LoadNistProblems(FOOTHOLD_NIST_DIR, &loaded, &error)) {
-      FAIL("NIST StRD: cannot load " << FOOTHOLD_NIST_DIR << ": " << error);
-    }
-    return loaded;
-  }();
-  return problems;
-}
 
 struct Run {
   std::string problem;
@@ -99,17 +47,11 @@ struct Run {
   std::string message;
   int num_iterations = 0;
   int num_evaluations = 0;
-  double rss = 0;
   Eigen::VectorXd parameters;
   Eigen::VectorXd standard_errors;
-  double min_param_lre = 0;
+  NistScore score;
   int worst_param = -1;
-  double rss_lre = 0;
-  double min_sd_lre = 0;
   int worst_sd = -1;
-  // The standard deviations rescaled by sqrt(certified rss / rss): what remains when the
-  // RSS's own rounding is taken out (used for Lanczos1).
-  double min_sd_lre_at_certified_rss = 0;
 };
 
 Run FitFromStart(const NistProblem& p, int start_number) {
@@ -138,31 +80,33 @@ Run FitFromStart(const NistProblem& p, int start_number) {
   run.message = summary.message;
   run.num_iterations = summary.num_iterations;
   run.num_evaluations = summary.num_evaluations;
-  run.rss = summary.final_cost;
+  run.score.rss = summary.final_cost;
   run.parameters = summary.parameters;
   run.standard_errors = statistics.standard_errors;
 
-  run.min_param_lre = kMaxLre;
-  run.min_sd_lre = kMaxLre;
+  NistScore& score = run.score;
+  score.min_param_lre = kMaxLre;
+  score.min_sd_lre = kMaxLre;
   for (int j = 0; j < p.num_params; ++j) {
     const double lre = j < run.parameters.size() ? Lre(run.parameters[j], p.certified[j]) : 0;
-    if (lre < run.min_param_lre || run.worst_param < 0) {
-      run.min_param_lre = lre;
+    if (lre < score.min_param_lre || run.worst_param < 0) {
+      score.min_param_lre = lre;
       run.worst_param = j;
     }
     const double sd_lre =
         j < run.standard_errors.size() ? Lre(run.standard_errors[j], p.certified_sd[j]) : 0;
-    if (sd_lre < run.min_sd_lre || run.worst_sd < 0) {
-      run.min_sd_lre = sd_lre;
+    if (sd_lre < score.min_sd_lre || run.worst_sd < 0) {
+      score.min_sd_lre = sd_lre;
       run.worst_sd = j;
     }
   }
-  run.rss_lre = Lre(run.rss, p.certified_rss);
-  run.min_sd_lre_at_certified_rss = kMaxLre;
-  const double rescale = std::sqrt(p.certified_rss / run.rss);
+  score.rss_lre = Lre(score.rss, p.certified_rss);
+  score.min_sd_lre_at_certified_rss = kMaxLre;
+  const double rescale = std::sqrt(p.certified_rss / score.rss);
   for (int j = 0; j < p.num_params && j < run.standard_errors.size(); ++j) {
-    run.min_sd_lre_at_certified_rss = std::min(
-        run.min_sd_lre_at_certified_rss, Lre(run.standard_errors[j] * rescale, p.certified_sd[j]));
+    score.min_sd_lre_at_certified_rss =
+        std::min(score.min_sd_lre_at_certified_rss,
+                 Lre(run.standard_errors[j] * rescale, p.certified_sd[j]));
   }
   return run;
 }
@@ -175,18 +119,12 @@ void PrintTable(const std::vector<Run>& runs) {
               "evals", "LRE(b)", "LRE(rss)", "LRE(sd)", "termination");
   for (const Run& r : runs) {
     std::printf("%-9s %5d %-7s %5d %5d %7.1f %8.1f %7.1f  %s\n", r.problem.c_str(), r.start,
-                r.difficulty.c_str(), r.num_iterations, r.num_evaluations, r.min_param_lre,
-                r.rss_lre, r.min_sd_lre,
+                r.difficulty.c_str(), r.num_iterations, r.num_evaluations, r.score.min_param_lre,
+                r.score.rss_lre, r.score.min_sd_lre,
                 r.is_set_up ? r.termination.c_str() : ("setup: " + r.setup_error).c_str());
   }
   int num_all_pass = 0;
-  for (const Run& r : runs) {
-    const bool rss_ok =
-        r.problem == "Lanczos1" ? r.rss < kLanczos1RssCeiling : r.rss_lre >= kCertifiedDigits;
-    if (r.min_param_lre >= kCertifiedDigits && rss_ok && r.min_sd_lre >= kCertifiedSdDigits) {
-      ++num_all_pass;
-    }
-  }
+  for (const Run& r : runs) num_all_pass += MeetsEveryPassMark(r.problem, r.score) ? 1 : 0;
   std::printf(
       "runs meeting every threshold (params >= %.0f, rss >= %.0f, sd >= %.0f): %d of %zu\n\n",
       kCertifiedDigits, kCertifiedDigits, kCertifiedSdDigits, num_all_pass, runs.size());
@@ -197,7 +135,7 @@ void PrintTable(const std::vector<Run>& runs) {
 const std::vector<Run>& AllRuns() {
   static const std::vector<Run> runs = [] {
     std::vector<Run> all;
-    for (const NistProblem& p : Problems()) {
+    for (const NistProblem& p : NistProblems()) {
       all.push_back(FitFromStart(p, 1));
       all.push_back(FitFromStart(p, 2));
     }
@@ -207,15 +145,8 @@ const std::vector<Run>& AllRuns() {
   return runs;
 }
 
-const ReachedFigures* FindShortfall(const std::string& problem, int start) {
-  for (const ReachedFigures& s : KnownShortfalls()) {
-    if (problem == s.problem && start == s.start) return &s;
-  }
-  return nullptr;
-}
-
 TEST_CASE("NIST StRD: index.json agrees with the 27 .dat files", "[certification][nist]") {
-  const std::vector<NistProblem>& problems = Problems();
+  const std::vector<NistProblem>& problems = NistProblems();
   REQUIRE(problems.size() == 27);
   for (const NistProblem& p : problems) {
     INFO("NIST StRD problem " << p.name << " (" << p.file << ")");
@@ -244,7 +175,7 @@ TEST_CASE("NIST StRD: index.json agrees with the 27 .dat files", "[certification
 
 TEST_CASE("NIST StRD: the expression model reproduces the certified RSS at the certified values",
           "[certification][nist]") {
-  for (const NistProblem& p : Problems()) {
+  for (const NistProblem& p : NistProblems()) {
     INFO("NIST StRD problem " << p.name << ", model " << p.model);
     std::string error;
     std::unique_ptr<ExpressionModel> model = ParseExpressionModel(
@@ -276,11 +207,10 @@ TEST_CASE("NIST StRD: Levenberg-Marquardt from Start 1 and Start 2 reaches the c
   const std::vector<Run>& runs = AllRuns();
   REQUIRE(runs.size() == 54);
   for (const Run& r : runs) {
-    const NistProblem& p = *std::find_if(Problems().begin(), Problems().end(),
-                                         [&](const NistProblem& q) { return q.name == r.problem; });
+    const NistProblem& p = FindNistProblem(r.problem);
     INFO("NIST StRD problem " << r.problem << " from Start " << r.start << ": termination "
                               << r.termination << " (" << r.message << "), " << r.num_iterations
-                              << " iterations, rss " << RoundTrip(r.rss) << " vs certified "
+                              << " iterations, rss " << RoundTrip(r.score.rss) << " vs certified "
                               << RoundTrip(p.certified_rss));
     INFO("setup error: " << r.setup_error);
     REQUIRE(r.is_set_up);
@@ -297,22 +227,7 @@ TEST_CASE("NIST StRD: Levenberg-Marquardt from Start 1 and Start 2 reaches the c
                       RoundTrip(p.certified_sd[r.worst_sd]);
     }
     INFO("worst parameter " << worst_param_text << "; worst standard deviation " << worst_sd_text);
-    const ReachedFigures* shortfall = FindShortfall(r.problem, r.start);
-    const double param_digits = shortfall ? shortfall->min_param_lre : kCertifiedDigits;
-    const double rss_digits = shortfall ? shortfall->rss_lre : kCertifiedDigits;
-    const double sd_digits = shortfall ? shortfall->min_sd_lre : kCertifiedSdDigits;
-    if (shortfall)
-      WARN("NIST StRD " << r.problem << " Start " << r.start << ": " << shortfall->why);
-    CHECK(r.min_param_lre >= param_digits);
-    if (r.problem == "Lanczos1") {
-      CHECK(r.rss < kLanczos1RssCeiling);
-      INFO("standard deviations rescaled to the certified RSS: LRE "
-           << r.min_sd_lre_at_certified_rss);
-      CHECK(r.min_sd_lre_at_certified_rss >= kCertifiedSdDigits);
-    } else {
-      CHECK(r.rss_lre >= rss_digits);
-    }
-    CHECK(r.min_sd_lre >= sd_digits);
+    CheckNistScore(r.problem, r.score);
   }
 }
 

@@ -2,11 +2,12 @@
 // which is MINPACK's lmder) fits the same synthetic data from the same start as foothold's
 // family model + MinimizeLevenbergMarquardt; both must reach the same minimum.
 //
-// The data are generated here with a fixed seed and Gaussian noise, written to a temporary
-// CSV, and fitted by tests/reference/scipy_fit.py under /usr/bin/python3 (the interpreter
-// that has numpy and scipy; scripts/setup.sh installs python3-scipy). The script writes the
-// family formulas itself, in the catalogue's parameter order, and refuses a name mismatch.
-// When /usr/bin/python3 cannot import scipy these tests fail; they never skip.
+// The data are generated here with a fixed seed and Gaussian noise. Every problem of this file
+// goes to tests/reference/scipy_fit.py in one batch (one JSON input file, one JSON output
+// file), so /usr/bin/python3 (the interpreter that has numpy and scipy; scripts/setup.sh
+// installs python3-scipy) starts once. The script writes the family formulas itself, in the
+// catalogue's parameter order, and refuses a name mismatch. When /usr/bin/python3 cannot
+// import scipy these tests fail; they never skip.
 
 #include <sys/wait.h>
 #include <unistd.h>
@@ -18,8 +19,11 @@
 #include <cstdio>
 #include <filesystem>
 #include <fstream>
+#include <iterator>
+#include <memory>
 #include <nlohmann/json.hpp>
 #include <string>
+#include <utility>
 #include <vector>
 
 #include "engine/solve/levenberg_marquardt.h"
@@ -160,87 +164,186 @@ std::string ShellQuote(const std::string& text) {
   return quoted + "'";
 }
 
+// One problem of the batch as the script reads it.
+nlohmann::json BatchEntry(const std::string& label, const std::string& family,
+                          const std::vector<std::string>& names, const Eigen::VectorXd& start,
+                          const Dataset& data) {
+  nlohmann::json entry;
+  entry["label"] = label;
+  entry["family"] = family;
+  entry["names"] = names;
+  entry["start"] = std::vector<double>(start.data(), start.data() + start.size());
+  const Eigen::VectorXd x = data.predictors.col(0);
+  entry["x"] = std::vector<double>(x.data(), x.data() + x.size());
+  entry["y"] = std::vector<double>(data.response.data(), data.response.data() + data.NumPoints());
+  return entry;
+}
+
+// The names check: each family with the catalogue's parameter names, plus one entry with two
+// names swapped that the script must refuse. The script checks the names without fitting:
+// these entries have no data (a fit of them would only cost time, up to max_nfev).
+constexpr const char* kNamesPrefix = "names:";
+constexpr const char* kSwappedNamesLabel = "names swapped:gaussian";
+const std::vector<const char*> kNamesFamilies = {
+    "line",      "polynomial", "gaussian",         "lorentzian",
+    "exp_decay", "logistic4",  "michaelis_menten", "power_law"};
+
+// A names-only entry of the batch.
+nlohmann::json NamesEntry(const std::string& label, const std::string& family,
+                          const std::vector<std::string>& names) {
+  nlohmann::json entry;
+  entry["label"] = label;
+  entry["family"] = family;
+  entry["names"] = names;
+  entry["start"] = std::vector<double>(names.size(), 1.0);
+  entry["x"] = nlohmann::json::array();
+  entry["y"] = nlohmann::json::array();
+  entry["names_only"] = true;
+  return entry;
+}
+
 struct ReferenceFit {
+  std::string label;
+  std::string error;           // the script's refusal; empty when it accepted the problem
+  bool is_names_only = false;  // accepted the names and fitted nothing, as asked
   std::vector<double> parameters;
   double rss = 0;
   int status = 0;
   int nfev = 0;
   std::string message;
-  std::string version;
 };
 
-// Writes the data to a temporary CSV and fits it with the reference script.
-bool FitWithScipy(const std::string& family_name, const Generated& g, const std::string& label,
-                  ReferenceFit* fit, std::string* error) {
-  const std::filesystem::path csv =
-      std::filesystem::temp_directory_path() /
-      ("foothold_scipy_" + label + "_" + std::to_string(getpid()) + ".csv");
-  {
-    std::ofstream out(csv);
-    out << "x,y\n";
-    for (int i = 0; i < g.problem.data.NumPoints(); ++i) {
-      out << RoundTrip(g.problem.data.predictors(i, 0)) << ","
-          << RoundTrip(g.problem.data.response[i]) << "\n";
+// Every problem of this file, generated once, and scipy's results for all of them from one
+// run of the reference script.
+struct ScipyBatch {
+  std::vector<std::unique_ptr<Generated>> generated;  // parallel to SyntheticProblems()
+  std::string setup_error;  // a synthetic problem that could not be generated
+  int exit_status = -1;     // of the script
+  std::string output;       // what the script printed (stdout and stderr)
+  std::string command;
+  std::string read_error;  // the results file could not be read
+  std::string scipy_version;
+  std::vector<ReferenceFit> fits;
+
+  bool HasRun() const { return exit_status == 0 && read_error.empty(); }
+  const ReferenceFit* Find(const std::string& label) const {
+    for (const ReferenceFit& f : fits) {
+      if (f.label == label) return &f;
     }
-    if (!out) {
-      *error = "cannot write " + csv.string();
-      return false;
-    }
+    return nullptr;
   }
-  std::string start_text;
-  std::string names_text;
-  const std::vector<std::string>& names = g.family.model->ParameterNames();
-  for (int j = 0; j < g.start.size(); ++j) {
-    start_text += (j ? "," : "") + RoundTrip(g.start[j]);
-    names_text += (j ? "," : "") + names[j];
+  std::string Diagnosis() const {
+    return "reference script exit " + std::to_string(exit_status) + ": " + output + read_error +
+           "\ncommand: " + command;
   }
-  const std::string command =
-      std::string(kPython) + " " +
-      ShellQuote(std::string(FOOTHOLD_SOURCE_DIR) + "/tests/reference/scipy_fit.py") +
-      " --family " + ShellQuote(family_name) + " --data " + ShellQuote(csv.string()) + " --start " +
-      ShellQuote(start_text) + " --names " + ShellQuote(names_text) + " 2>&1";
-  std::string output;
-  const int status = RunCommand(command, &output);
-  std::filesystem::remove(csv);
-  if (status != 0) {
-    *error = "reference script failed (exit " + std::to_string(status) + "): " + output +
-             "\ncommand: " + command;
-    return false;
-  }
+};
+
+bool ReadResults(const std::string& text, ScipyBatch* batch) {
   try {
-    const nlohmann::json result = nlohmann::json::parse(output);
-    fit->parameters = result.at("parameters").get<std::vector<double>>();
-    fit->rss = result.at("rss").get<double>();
-    fit->status = result.at("status").get<int>();
-    fit->nfev = result.at("nfev").get<int>();
-    fit->message = result.at("message").get<std::string>();
-    fit->version = result.at("scipy_version").get<std::string>();
+    const nlohmann::json document = nlohmann::json::parse(text);
+    batch->scipy_version = document.at("scipy_version").get<std::string>();
+    for (const nlohmann::json& result : document.at("results")) {
+      ReferenceFit fit;
+      fit.label = result.at("label").get<std::string>();
+      if (result.contains("error")) {
+        fit.error = result.at("error").get<std::string>();
+      } else if (result.value("names_only", false)) {
+        fit.is_names_only = true;
+      } else {
+        fit.parameters = result.at("parameters").get<std::vector<double>>();
+        fit.rss = result.at("rss").get<double>();
+        fit.status = result.at("status").get<int>();
+        fit.nfev = result.at("nfev").get<int>();
+        fit.message = result.at("message").get<std::string>();
+      }
+      batch->fits.push_back(fit);
+    }
   } catch (const nlohmann::json::exception& e) {
-    *error = std::string("cannot read the reference output: ") + e.what() + "\n" + output;
+    batch->read_error = std::string("cannot read the reference output: ") + e.what();
     return false;
   }
   return true;
 }
 
-TEST_CASE("Debian python3-scipy: /usr/bin/python3 imports numpy and scipy",
+ScipyBatch RunScipyBatch() {
+  ScipyBatch batch;
+  nlohmann::json problems = nlohmann::json::array();
+  const std::vector<SyntheticProblem>& synthetic = SyntheticProblems();
+  for (size_t k = 0; k < synthetic.size(); ++k) {
+    const SyntheticProblem& s = synthetic[k];
+    auto g = std::make_unique<Generated>();
+    std::string error;
+    if (!Generate(s, kSeed + k, g.get(), &error)) {
+      batch.setup_error += s.label + ": " + error + "\n";
+    } else {
+      problems.push_back(BatchEntry(s.label, s.request.name, g->family.model->ParameterNames(),
+                                    g->start, g->problem.data));
+    }
+    batch.generated.push_back(std::move(g));
+  }
+  for (const char* name : kNamesFamilies) {
+    const FamilyDescription* description = FindFamily(name);
+    if (description == nullptr) continue;  // the names test reports it
+    std::vector<std::string> names;
+    for (const FamilyParameter& p : description->parameters) names.push_back(p.name);
+    problems.push_back(NamesEntry(kNamesPrefix + std::string(name), name, names));
+    if (std::string(name) == "gaussian") {
+      std::swap(names[0], names[1]);
+      problems.push_back(NamesEntry(kSwappedNamesLabel, name, names));
+    }
+  }
+
+  const std::string stem = (std::filesystem::temp_directory_path() /
+                            ("foothold_scipy_batch_" + std::to_string(getpid())))
+                               .string();
+  const std::string input = stem + "_in.json";
+  const std::string results = stem + "_out.json";
+  {
+    std::ofstream out(input);
+    out << nlohmann::json{{"problems", problems}}.dump();
+    if (!out) {
+      batch.read_error = "cannot write " + input;
+      return batch;
+    }
+  }
+  batch.command = std::string(kPython) + " " +
+                  ShellQuote(std::string(FOOTHOLD_SOURCE_DIR) + "/tests/reference/scipy_fit.py") +
+                  " --batch " + ShellQuote(input) + " --output " + ShellQuote(results) + " 2>&1";
+  batch.exit_status = RunCommand(batch.command, &batch.output);
+  if (batch.exit_status == 0) {
+    std::ifstream in(results);
+    const std::string text((std::istreambuf_iterator<char>(in)), std::istreambuf_iterator<char>());
+    ReadResults(text, &batch);
+  }
+  std::filesystem::remove(input);
+  std::filesystem::remove(results);
+  return batch;
+}
+
+const ScipyBatch& Scipy() {
+  static const ScipyBatch batch = RunScipyBatch();
+  return batch;
+}
+
+TEST_CASE("Debian python3-scipy: /usr/bin/python3 imports numpy and scipy and runs the batch",
           "[certification][scipy]") {
-  std::string output;
-  const int status = RunCommand(
-      std::string(kPython) + " -c \"import numpy, scipy.optimize; print(scipy.__version__)\" 2>&1",
-      &output);
+  const ScipyBatch& batch = Scipy();
   INFO(kReferenceLibrary << " is required: " << kPython
-                         << " could not import scipy. Install it with scripts/setup.sh "
-                            "(apt-get install python3-scipy). Output: "
-                         << output);
-  REQUIRE(status == 0);
+                         << " could not import scipy or run the reference script. Install it "
+                            "with scripts/setup.sh (apt-get install python3-scipy). "
+                         << batch.Diagnosis());
+  REQUIRE(batch.HasRun());
+  CHECK(!batch.scipy_version.empty());
 }
 
 TEST_CASE("Debian python3-scipy: the script's parameter names are the catalogue's",
           "[certification][scipy]") {
   // The script pairs values by position; the names it knows must be the catalogue's names
   // (FamilyCatalogue(), default options) for every family used here.
-  for (const char* name : {"line", "polynomial", "gaussian", "lorentzian", "exp_decay", "logistic4",
-                           "michaelis_menten", "power_law"}) {
+  const ScipyBatch& batch = Scipy();
+  INFO(batch.Diagnosis());
+  REQUIRE(batch.HasRun());
+  for (const char* name : kNamesFamilies) {
     INFO("family " << name);
     const FamilyDescription* description = FindFamily(name);
     REQUIRE(description != nullptr);
@@ -256,28 +359,18 @@ TEST_CASE("Debian python3-scipy: the script's parameter names are the catalogue'
     std::vector<std::string> catalogue_names;
     for (const FamilyParameter& p : description->parameters) catalogue_names.push_back(p.name);
     CHECK(instance.model->ParameterNames() == catalogue_names);
-    // The reference script checks the names passed to it against its own list.
-    std::string start_text;
-    std::string names_text;
-    for (size_t j = 0; j < catalogue_names.size(); ++j) {
-      start_text += (j ? "," : "") + std::string("1");
-      names_text += (j ? "," : "") + catalogue_names[j];
-    }
-    const std::filesystem::path csv = std::filesystem::temp_directory_path() /
-                                      ("foothold_names_" + std::to_string(getpid()) + ".csv");
-    std::ofstream(csv) << "x,y\n1,1\n2,2\n3,3\n4,4.5\n5,5\n6,6.5\n";
-    std::string output;
-    const int status = RunCommand(
-        std::string(kPython) + " " +
-            ShellQuote(std::string(FOOTHOLD_SOURCE_DIR) + "/tests/reference/scipy_fit.py") +
-            " --family " + name + " --data " + ShellQuote(csv.string()) + " --start " + start_text +
-            " --names " + ShellQuote(names_text) + " 2>&1",
-        &output);
-    std::filesystem::remove(csv);
-    INFO("script output: " << output);
-    CHECK(output.find("differ from the script") == std::string::npos);
-    CHECK(status == 0);
+    // The reference script checked the catalogue's names against its own list.
+    const ReferenceFit* fit = batch.Find(kNamesPrefix + std::string(name));
+    REQUIRE(fit != nullptr);
+    INFO("script: " << fit->error);
+    CHECK(fit->error.empty());
+    CHECK(fit->is_names_only);
   }
+  // And it refuses a list it does not know, so the check above can fail.
+  const ReferenceFit* swapped = batch.Find(kSwappedNamesLabel);
+  REQUIRE(swapped != nullptr);
+  INFO("script: " << swapped->error);
+  CHECK(swapped->error.find("differ from the script") != std::string::npos);
 }
 
 TEST_CASE(
@@ -286,24 +379,25 @@ TEST_CASE(
     "[certification][scipy]") {
   const std::vector<SyntheticProblem>& problems = SyntheticProblems();
   REQUIRE(problems.size() >= 10);
-  std::printf("\nReference: %s\n", kReferenceLibrary);
+  const ScipyBatch& batch = Scipy();
+  INFO("setup error: " << batch.setup_error);
+  REQUIRE(batch.setup_error.empty());
+  INFO(batch.Diagnosis());
+  REQUIRE(batch.HasRun());
+  std::printf("\nReference: %s %s\n", kReferenceLibrary, batch.scipy_version.c_str());
   std::printf("%-17s %-17s %4s %13s %9s %9s %5s %5s  %s\n", "problem", "family", "n", "rss (scipy)",
               "d(rss)", "max d(b)", "iter", "nfev", "foothold termination");
   for (size_t k = 0; k < problems.size(); ++k) {
     const SyntheticProblem& s = problems[k];
     INFO("problem " << s.label << " (family " << s.request.name << ") against "
                     << kReferenceLibrary);
-    Generated g;
-    std::string error;
-    const bool is_generated = Generate(s, kSeed + k, &g, &error);
-    INFO("setup error: " << error);
-    REQUIRE(is_generated);
-
-    ReferenceFit reference;
-    const bool is_fitted = FitWithScipy(s.request.name, g, s.label, &reference, &error);
-    INFO("reference error: " << error);
-    REQUIRE(is_fitted);
-    INFO("scipy " << reference.version << " status " << reference.status << ": "
+    const Generated& g = *batch.generated[k];
+    const ReferenceFit* found = batch.Find(s.label);
+    REQUIRE(found != nullptr);
+    const ReferenceFit& reference = *found;
+    INFO("reference error: " << reference.error);
+    REQUIRE(reference.error.empty());
+    INFO("scipy " << batch.scipy_version << " status " << reference.status << ": "
                   << reference.message);
     CHECK(reference.status > 0);
     REQUIRE(reference.parameters.size() == static_cast<size_t>(g.start.size()));
@@ -327,6 +421,7 @@ TEST_CASE(
                 ToString(summary.termination));
     std::fflush(stdout);
 
+    // Same minimum as Debian python3-scipy's least_squares(method='lm') (MINPACK lmder).
     INFO("rss foothold " << RoundTrip(summary.final_cost) << " vs scipy "
                          << RoundTrip(reference.rss));
     CHECK(rss_difference <= kRssRelativeTolerance);

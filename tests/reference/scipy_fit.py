@@ -1,19 +1,30 @@
 #!/usr/bin/python3
-"""Reference fit with Debian's python3-scipy for foothold's certification tests.
+"""Reference fits with Debian's python3-scipy for foothold's certification tests.
 
-Fits one catalogue family to a CSV file (header "x,y", one point a row) from a given start
-with scipy.optimize.least_squares(method='lm'), i.e. MINPACK's lmder, with analytic
-Jacobians and xtol = ftol = gtol = 1e-15, and prints one JSON object on stdout:
+Fits a batch of problems, each one catalogue family on (x, y) data from a given start, with
+scipy.optimize.least_squares(method='lm'), i.e. MINPACK's lmder, with analytic Jacobians and
+xtol = ftol = gtol = 1e-15. The whole batch is one input file and one output file, so the
+interpreter and scipy start once for all problems:
 
-  {"family": ..., "parameters": [...], "rss": ..., "nfev": ..., "njev": ...,
-   "status": ..., "message": ..., "scipy_version": ..., "numpy_version": ...}
+  input:  {"problems": [{"label": ..., "family": ..., "names": [...], "start": [...],
+                         "x": [...], "y": [...]}, ...]}
+  output: {"scipy_version": ..., "numpy_version": ...,
+           "results": [{"label": ..., "family": ..., "parameters": [...], "rss": ...,
+                        "nfev": ..., "njev": ..., "status": ..., "message": ...}, ...]}
+
+The results are in the order of the problems. A problem with "names_only": true has its
+family and parameter names checked and is not fitted (its result is {"label": ...,
+"family": ..., "names_only": true}; "x" and "y" may be empty). A problem the script refuses
+(an unknown family, a parameter-name list that differs from its own, sizes that disagree)
+gets {"label": ..., "error": ...} instead, and the others are still fitted; an input file
+that cannot be read at all is exit status 2.
 
 The family formulas are written here independently of foothold's C++ code, in foothold's
 catalogue parameter order (DESIGN.md section 3). The caller passes the parameter names it
-expects; a mismatch with the names below is an error (exit status 2), so a change of the
-catalogue cannot silently pair the wrong parameters.
+expects; a mismatch with the names below is an error, so a change of the catalogue cannot
+silently pair the wrong parameters.
 
-Usage: scipy_fit.py --family NAME --data FILE.csv --start v1,v2,... --names n1,n2,...
+Usage: scipy_fit.py --batch IN.json --output OUT.json
 Run it with /usr/bin/python3 (the interpreter that has numpy and scipy).
 """
 
@@ -111,33 +122,29 @@ FAMILIES = {
 }
 
 
-def fail(message):
-    print(json.dumps({"error": message}))
-    sys.exit(2)
+class Refused(Exception):
+    """A problem the script will not fit; its message goes to the problem's result."""
 
 
-def main():
-    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
-    parser.add_argument("--family", required=True)
-    parser.add_argument("--data", required=True)
-    parser.add_argument("--start", required=True)
-    parser.add_argument("--names", required=True)
-    args = parser.parse_args()
-
-    if args.family not in FAMILIES:
-        fail("unknown family '%s'" % args.family)
-    function, expected_names = FAMILIES[args.family]
-    start = np.array([float(v) for v in args.start.split(",")])
-    names = args.names.split(",")
+def fit(problem):
+    family = problem["family"]
+    if family not in FAMILIES:
+        raise Refused("unknown family '%s'" % family)
+    function, expected_names = FAMILIES[family]
+    start = np.array(problem["start"], dtype=np.float64)
+    names = list(problem["names"])
     if expected_names is None:
         expected_names = ["c%d" % k for k in range(len(start))]
     if names != expected_names:
-        fail("parameter names %s differ from the script's %s" % (names, expected_names))
+        raise Refused("parameter names %s differ from the script's %s" % (names, expected_names))
     if len(start) != len(names):
-        fail("start has %d values for %d parameters" % (len(start), len(names)))
-
-    table = np.loadtxt(args.data, delimiter=",", skiprows=1, dtype=np.float64, ndmin=2)
-    x, y = table[:, 0], table[:, 1]
+        raise Refused("start has %d values for %d parameters" % (len(start), len(names)))
+    if problem.get("names_only", False):
+        return {"family": family, "names_only": True}
+    x = np.array(problem["x"], dtype=np.float64)
+    y = np.array(problem["y"], dtype=np.float64)
+    if x.shape != y.shape or x.ndim != 1:
+        raise Refused("x has %d values and y %d" % (x.size, y.size))
 
     def residuals(p):
         return function(x, p)[0] - y
@@ -148,18 +155,41 @@ def main():
     result = scipy.optimize.least_squares(residuals, start, jac=jacobian, method="lm",
                                           xtol=1e-15, ftol=1e-15, gtol=1e-15,
                                           x_scale="jac", max_nfev=100000)
-    rss = float(np.sum(residuals(result.x) ** 2))
-    print(json.dumps({
-        "family": args.family,
+    return {
+        "family": family,
         "parameters": [float(v) for v in result.x],
-        "rss": rss,
+        "rss": float(np.sum(residuals(result.x) ** 2)),
         "nfev": int(result.nfev),
         "njev": int(result.njev) if result.njev is not None else 0,
         "status": int(result.status),
         "message": str(result.message),
-        "scipy_version": scipy.__version__,
-        "numpy_version": np.__version__,
-    }))
+    }
+
+
+def main():
+    parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    parser.add_argument("--batch", required=True, help="input JSON file with the problems")
+    parser.add_argument("--output", required=True, help="output JSON file for the results")
+    args = parser.parse_args()
+
+    try:
+        with open(args.batch) as f:
+            problems = json.load(f)["problems"]
+    except (OSError, ValueError, KeyError, TypeError) as e:
+        print("cannot read the batch %s: %s" % (args.batch, e), file=sys.stderr)
+        sys.exit(2)
+
+    results = []
+    for problem in problems:
+        label = problem.get("label", "")
+        try:
+            result = fit(problem)
+        except (Refused, KeyError, TypeError, ValueError) as e:
+            result = {"error": str(e)}
+        results.append(dict({"label": label}, **result))
+    with open(args.output, "w") as f:
+        json.dump({"scipy_version": scipy.__version__, "numpy_version": np.__version__,
+                   "results": results}, f)
 
 
 if __name__ == "__main__":
