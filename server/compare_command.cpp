@@ -165,38 +165,17 @@ void WriteTable(const std::string& source, const std::vector<CandidateFit>& fits
   out << ")\n";
 }
 
-Json EncodeComparison(const std::string& source, const std::vector<CandidateFit>& fits,
-                      const ModelComparison& comparison) {
+// The comparison object is the daemon's (server/json_codec.h); each family's full result
+// follows in ranking order.
+Json EncodeCompareDocument(const std::string& source, const std::vector<CandidateFit>& fits,
+                           const ModelComparison& comparison) {
   Json document;
   document["data"] = source;
-  document["winner"] = comparison.winner.empty() ? Json() : Json(comparison.winner);
-  auto number = [](double value) { return std::isfinite(value) ? Json(value) : Json(); };
-  document["winner_margin_aicc"] = number(comparison.winner_margin);
+  document["comparison"] = EncodeComparison(fits, comparison);
   Json& models = document["models"] = Json::array();
   for (const RankedModel& row : comparison.ranking) {
-    Json entry;
-    entry["family"] = row.family;
-    entry["rank"] = row.rank;
-    entry["free_parameters"] = row.num_free;
-    entry["rss"] = number(row.rss);
-    entry["aicc"] = number(row.aicc);
-    entry["delta_aicc"] = number(row.delta_aicc);
-    entry["akaike_weight"] = number(row.akaike_weight);
-    entry["converged"] = row.is_converged;
-    entry["result"] = EncodeFitOutcome(fits[row.index].outcome);
-    models.push_back(std::move(entry));
-  }
-  Json& nested = document["nested"] = Json::array();
-  for (const NestedTest& test : comparison.nested) {
-    nested.push_back({{"simpler", test.simpler},
-                      {"fuller", test.fuller},
-                      {"nesting", test.nesting},
-                      {"df_extra", test.df_extra},
-                      {"df_residual", test.df_residual},
-                      {"f", number(test.f)},
-                      {"p_value", number(test.p_value)},
-                      {"prefers_fuller", test.prefers_fuller},
-                      {"on_boundary", test.on_boundary}});
+    models.push_back(
+        {{"family", row.family}, {"result", EncodeFitOutcome(fits[row.index].outcome)}});
   }
   return document;
 }
@@ -215,7 +194,8 @@ polynomial in higher degree, exp_decay in biexp_decay and in stretched_exp, logi
 logistic5, gaussian (eta = 0) and lorentzian (eta = 1) in pseudo_voigt.
 
 --families a,b,...   two or more catalogue families (see foothold families)
---json               print the comparison document, each family's full result inside
+--json               print {data, comparison, models}: the ranking as the daemon's
+                     comparison jobs give it, then each family's full result
 --degree D           polynomial degree (applies to polynomial only)
 --peaks K|auto       peak count (applies to multi_* only)
 other flags          as foothold fit: --y, --sigma, --sigma-column, --starts, --seed,
@@ -258,7 +238,7 @@ int RunCompare(const std::vector<std::string>& args, std::ostream& out, std::ost
   }
   const ModelComparison comparison = CompareFits(fits);
   if (command.json) {
-    out << EncodeComparison(source, fits, comparison).dump(2) << '\n';
+    out << EncodeCompareDocument(source, fits, comparison).dump(2) << '\n';
   } else {
     WriteTable(source, fits, comparison, out);
   }

@@ -1,5 +1,6 @@
 #include "server/fit_service.h"
 
+#include <algorithm>
 #include <cctype>
 #include <chrono>
 #include <cmath>
@@ -261,6 +262,134 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
     return false;
   }
   *out = std::move(prepared);
+  return true;
+}
+
+namespace {
+
+// The largest peak count "peaks": "auto" may choose (heuristics/guess_family.cpp tries at
+// most 8 and needs 3k + 2 parameters with n - (3k + 2) - 1 > 0). Admission checks names
+// against the widest model; the count itself is decided when the job runs.
+constexpr int kMaxAutoPeaks = 8;
+
+// ChooseStart's checks on what the request gives (server/fit_start.cpp), with its messages,
+// but without the guesser: known names, start and fix apart, enough points, given values
+// inside their bounds.
+bool CheckGivenValues(const FitRequest& request, const std::vector<FamilyParameter>& defaults,
+                      Problem* problem, std::string* error) {
+  const std::vector<std::string>& names = problem->model->ParameterNames();
+  const int p = static_cast<int>(names.size());
+  auto index_of = [&](const std::string& name) {
+    for (int j = 0; j < p; ++j) {
+      if (names[j] == name) return j;
+    }
+    return -1;
+  };
+  auto unknown = [&](const std::string& field, const std::string& name) {
+    *error =
+        field + ": unknown parameter '" + name + "' (the model's parameters: " + Join(names) + ")";
+    return false;
+  };
+  problem->lower = Eigen::VectorXd::Constant(p, -std::numeric_limits<double>::infinity());
+  problem->upper = Eigen::VectorXd::Constant(p, std::numeric_limits<double>::infinity());
+  for (size_t j = 0; j < defaults.size() && static_cast<int>(j) < p; ++j) {
+    problem->lower[j] = defaults[j].default_lower;
+    problem->upper[j] = defaults[j].default_upper;
+  }
+  for (const NamedBounds& bounds : request.bounds) {
+    const int j = index_of(bounds.name);
+    if (j < 0) return unknown("bounds", bounds.name);
+    problem->lower[j] = bounds.lower;
+    problem->upper[j] = bounds.upper;
+  }
+  problem->is_fixed.assign(p, false);
+  Eigen::VectorXd given = Eigen::VectorXd::Constant(p, std::numeric_limits<double>::quiet_NaN());
+  for (const NamedValue& fixed : request.fix) {
+    const int j = index_of(fixed.name);
+    if (j < 0) return unknown("fix", fixed.name);
+    problem->is_fixed[j] = true;
+    given[j] = fixed.value;
+  }
+  for (const NamedValue& start : request.start) {
+    const int j = index_of(start.name);
+    if (j < 0) return unknown("start", start.name);
+    if (problem->is_fixed[j]) {
+      *error = "start." + start.name + ": the parameter is also in fix; give it in one place";
+      return false;
+    }
+    given[j] = start.value;
+  }
+  const int num_free = problem->NumFree();
+  if (problem->data.NumPoints() < num_free) {
+    std::ostringstream message;
+    message << "data: " << problem->data.NumPoints() << " points but the model has " << num_free
+            << " free parameters; need at least " << num_free << " points";
+    *error = message.str();
+    return false;
+  }
+  for (int j = 0; j < p; ++j) {
+    if (std::isnan(given[j])) continue;
+    if (given[j] < problem->lower[j] || given[j] > problem->upper[j]) {
+      *error = (problem->is_fixed[j] ? "fix." : "start.") + names[j] + " = " +
+               FormatNumber(given[j]) + " is outside its bounds [" +
+               FormatNumber(problem->lower[j]) + ", " + FormatNumber(problem->upper[j]) + "]";
+      return false;
+    }
+  }
+  return true;
+}
+
+}  // namespace
+
+bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_parameters,
+                                    std::string* error) {
+  if (!request.Validate(error)) return false;
+  std::vector<std::string> predictor_columns;
+  Dataset all_columns;
+  std::string sigma_column;
+  if (!BuildDataset(request, &predictor_columns, &all_columns, &sigma_column, error)) return false;
+  ModelSpec spec = request.model;
+  if (spec.auto_peaks) {
+    // Resolving "auto" fits every candidate count; admission takes the widest model instead.
+    const int by_points = (request.data.NumRows() - 4) / 3;
+    if (by_points < 1) {
+      *error = "model.peaks = 'auto': " + std::to_string(request.data.NumRows()) +
+               " points are too few to compare even one peak by AICc (need >= 7)";
+      return false;
+    }
+    spec.auto_peaks = false;
+    spec.peaks = std::min(kMaxAutoPeaks, by_points);
+  }
+  std::unique_ptr<Model> model;
+  std::vector<FamilyParameter> family_parameters;
+  FamilyRequest family_request;
+  if (!BuildModel(predictor_columns, all_columns, &spec, &family_request, &model,
+                  &family_parameters, error)) {
+    return false;
+  }
+  Problem problem;
+  problem.model = model.get();
+  std::string select_error;
+  if (!all_columns.SelectPredictors(model->PredictorNames(), &problem.data, &select_error)) {
+    *error = "data: " + select_error + " (columns: " + request.data.ListColumnNames() + ")";
+    return false;
+  }
+  if (!CheckGivenValues(request, family_parameters, &problem, error)) return false;
+  std::string problem_error;
+  if (!problem.Validate(&problem_error)) {
+    *error = "problem: " + problem_error;
+    return false;
+  }
+  LevenbergMarquardtOptions options;
+  options.max_iterations = request.max_iterations;
+  options.max_evaluations = request.max_evaluations;
+  options.deadline_seconds = request.deadline_seconds;
+  std::string options_error;
+  if (!options.Validate(&options_error)) {
+    *error = "solver options: " + options_error;
+    return false;
+  }
+  *num_parameters = model->NumParameters();
   return true;
 }
 

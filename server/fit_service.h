@@ -42,6 +42,15 @@ struct PreparedFit {
 // or parameter) on the first problem found.
 bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error);
 
+// The admission check of the daemon: every bad-input check of PrepareFit that needs no
+// guesser and no fit (fields, model, expression, columns, sigma, bounds/start/fix names and
+// values, limits), with PrepareFit's messages; `num_parameters` gets the model's count.
+// Cheap: linear in the data. What only the guesser can find (data a family cannot
+// describe, a start it cannot make) is reported when the job runs. With "peaks": "auto" the
+// names are checked against the widest model auto may choose.
+bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_parameters,
+                                    std::string* error);
+
 // Minimises and describes the result; never fails: numerical outcomes are data.
 FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared);
 FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared,

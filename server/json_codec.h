@@ -49,4 +49,15 @@ Json EncodeGuessList(const std::vector<std::string>& parameter_names,
 // The catalogue: name, formula, summary, options and parameters with default bounds.
 Json EncodeFamilies();
 
+struct CandidateFit;
+struct ModelComparison;
+// The ranking of a comparison (server/model_comparison.h): {winner, margin_aicc, ranking:
+// [{family, rank, free_parameters, rss, aicc, delta_aicc, akaike_weight, converged,
+// termination, parameters}], nested: [{simpler, fuller, nesting, df_extra, df_residual, f,
+// p_value, prefers_fuller, on_boundary}]}. `foothold compare --json` and the daemon share it.
+Json EncodeComparison(const std::vector<CandidateFit>& fits, const ModelComparison& comparison);
+// A comparison job's result: the winner's result document with "comparison" added.
+Json EncodeComparisonResult(const std::vector<CandidateFit>& fits,
+                            const ModelComparison& comparison);
+
 }  // namespace foothold

@@ -8,6 +8,7 @@
 
 #include "server/fit_outcome.h"
 #include "server/fit_request.h"
+#include "server/fit_service.h"
 
 namespace foothold {
 
@@ -75,9 +76,36 @@ bool FamilyNestedIn(const ModelSpec& simpler, const ModelSpec& fuller, std::stri
 ModelComparison CompareFits(const std::vector<CandidateFit>& fits,
                             const ComparisonOptions& options = {});
 
+// The name a family is ranked under: polynomial carries its degree ("polynomial(3)"),
+// multi_gaussian and multi_lorentzian their peak count ("multi_gaussian(2)").
+std::string ComparedLabel(const ModelSpec& spec);
+
 // Fits `base` once per family (the normal fit path: guesses, multistart, verdict), with
 // the family replacing base.model. False with the family named on bad input.
 bool FitFamilies(const FitRequest& base, const std::vector<ModelSpec>& families,
                  std::vector<CandidateFit>* out, std::string* error);
+
+// The families a request with "compare" fits: request.model first when it names a family,
+// then the compare entries (request.model's family given again in compare is fitted once).
+// `fields` names where each came from ("model", "compare[1]") for messages. False, naming
+// the field, for an expression model, start/fix/bounds (each family starts from its own
+// guesses, as `foothold compare`), an entry given twice, or fewer than two families.
+bool ComparedFamilies(const FitRequest& request, std::vector<ModelSpec>* families,
+                      std::vector<std::string>* fields, std::string* error);
+
+// The daemon's admission check of a comparison: ComparedFamilies, then the admission check
+// of the request once per family (no guesser, no fit); a message about one family names its
+// entry ("compare[2].family: unknown family ..."). `max_parameters` gets the largest model.
+bool ValidateComparisonForAdmission(const FitRequest& request, int* max_parameters,
+                                    std::string* error);
+
+// Runs a request with "compare" as one job: every family is prepared (guesses), then fitted
+// in turn with the hooks. Progress is the starts finished and planned summed over the
+// families (a family not yet run counts its planned budget); should_stop is checked within
+// each fit and between them, so a cancelled comparison returns at once with the remaining
+// families' fits marked cancelled. False with the entry named when a family cannot be fitted.
+bool RunComparison(const FitRequest& request, const FitHooks& hooks,
+                   std::vector<CandidateFit>* fits, ModelComparison* comparison,
+                   std::string* error);
 
 }  // namespace foothold

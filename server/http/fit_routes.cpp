@@ -10,6 +10,7 @@
 #include "server/http/router.h"
 #include "server/job_codec.h"
 #include "server/json_codec.h"
+#include "server/model_comparison.h"
 #include "server/svg_plot.h"
 
 namespace foothold {
@@ -54,6 +55,19 @@ double PreferredWait(const HttpRequest& request) {
   return seconds;
 }
 
+// A comparison's result is the winner's: plot with the winner's family (its peak count as
+// chosen, so "auto" is not resolved again).
+void UseResultModel(const Json& model, FitRequest* fit) {
+  if (!model.is_object() || !model.value("family", Json()).is_string()) return;
+  fit->model = ModelSpec{};
+  fit->model.family = model["family"].get<std::string>();
+  if (model.value("degree", Json()).is_number_integer())
+    fit->model.degree = model["degree"].get<int>();
+  if (model.value("peaks", Json()).is_number_integer())
+    fit->model.peaks = model["peaks"].get<int>();
+  fit->compare.clear();
+}
+
 }  // namespace
 
 bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, FitRequest* out,
@@ -78,10 +92,11 @@ bool Router::ReadFitRequest(const HttpRequest& request, const Params& query, Fit
                             "{\"x\": [...], \"y\": [...]}");
       return false;
     }
-    if (!out->model.IsFamily() && out->model.expression.empty()) {
+    // A comparison names its families in compare; model is then optional.
+    if (out->compare.empty() && !out->model.IsFamily() && out->model.expression.empty()) {
       *problem = ProblemFor(request, 400, "invalid-request", "Bad Request",
                             "model: required, {\"family\": \"<name>\"} or {\"expression\": "
-                            "\"...\", \"parameters\": [...]}");
+                            "\"...\", \"parameters\": [...]} (or compare: [\"<family>\", ...])");
       return false;
     }
     *stored_document = request.body();
@@ -174,13 +189,17 @@ bool Router::CheckFitRequest(const HttpRequest& request, const FitRequest& fit, 
                   " characters exceed the limit max_expression_length = " +
                   std::to_string(limits.max_expression_length));
   }
-  PreparedFit prepared;
+  // Admission checks without guessers or fits, so its cost is linear in the data; what only
+  // a guesser can find is the job's failure (docs/api.md).
+  int num_parameters = 0;
   std::string error;
-  if (!PrepareFit(fit, &prepared, &error)) {
+  const bool admitted = fit.compare.empty()
+                            ? ValidateFitRequestForAdmission(fit, &num_parameters, &error)
+                            : ValidateComparisonForAdmission(fit, &num_parameters, &error);
+  if (!admitted) {
     *problem = ProblemFor(request, 422, "invalid-fit", "Unprocessable Content", where + error);
     return false;
   }
-  const int num_parameters = prepared.model->NumParameters();
   if (num_parameters > limits.max_parameters) {
     return refuse(
         "model: " + std::to_string(num_parameters) +
@@ -307,8 +326,10 @@ HttpResponse Router::PlotFit(const HttpRequest& request, const std::string& id, 
     FitRequest fit;
     PreparedFit prepared;
     std::string error;
-    if (!DecodeFitRequestText(job.request_json, &fit, &error) ||
-        !PrepareFit(fit, &prepared, &error)) {
+    const bool decoded = DecodeFitRequestText(job.request_json, &fit, &error);
+    if (decoded && !fit.compare.empty())
+      UseResultModel(ResultMember(job.result_json, "model"), &fit);
+    if (!decoded || !PrepareFit(fit, &prepared, &error)) {
       return ProblemFor(request, 409, "not-plottable", "Conflict", "fit '" + id + "': " + error);
     }
     const Json best = ResultMember(job.result_json, "best");

@@ -8,6 +8,7 @@
 #include "server/fit_service.h"
 #include "server/jobs/progress_throttle.h"
 #include "server/json_codec.h"
+#include "server/model_comparison.h"
 
 namespace foothold {
 namespace {
@@ -20,6 +21,44 @@ std::string BriefReport(const JobRecord& job, const FitOutcome& outcome) {
       << outcome.starts.size() << " start(s), " << ToString(outcome.best.termination) << "; "
       << outcome.verdict.summary;
   return out.str();
+}
+
+// The comparison's part of the brief report: the winner, its weight and its margin.
+std::string ComparisonReport(const ModelComparison& comparison) {
+  std::ostringstream out;
+  out.precision(3);
+  out << "Compared " << comparison.ranking.size() << " families: ";
+  if (comparison.winner.empty()) {
+    out << "no winner, no family gave a finite AICc.";
+    return out.str();
+  }
+  out << "winner " << comparison.winner << " (Akaike weight "
+      << comparison.ranking.front().akaike_weight;
+  if (std::isfinite(comparison.winner_margin)) {
+    out << ", AICc " << comparison.winner_margin << " below " << comparison.ranking[1].family;
+  }
+  out << ").";
+  return out.str();
+}
+
+// The request's result document and brief report: one fit, or with "compare" a comparison
+// of families whose result is the winner's document with the ranking beside it.
+bool RunRequest(const JobRecord& job, const FitRequest& request, const FitHooks& hooks,
+                std::string* result_json, std::string* brief, std::string* error) {
+  if (request.compare.empty()) {
+    FitOutcome outcome;
+    if (!RunFit(request, hooks, &outcome, error)) return false;
+    *result_json = EncodeFitOutcome(outcome).dump();
+    *brief = BriefReport(job, outcome);
+    return true;
+  }
+  std::vector<CandidateFit> fits;
+  ModelComparison comparison;
+  if (!RunComparison(request, hooks, &fits, &comparison, error)) return false;
+  *result_json = EncodeComparisonResult(fits, comparison).dump();
+  const size_t best = comparison.ranking.empty() ? 0 : comparison.ranking.front().index;
+  *brief = BriefReport(job, fits[best].outcome) + " " + ComparisonReport(comparison);
+  return true;
 }
 
 }  // namespace
@@ -107,11 +146,12 @@ void WorkerPool::RunJob(const JobRecord& job) {
   hooks.on_progress = [progress](int finished, int planned, double best_rss) {
     progress->Report(finished, planned, best_rss);
   };
-  FitOutcome outcome;
   JobRecord finished = job;
   std::string brief;
   std::string fit_error;
-  const bool ran = RunFit(request, hooks, &outcome, &fit_error);
+  std::string result_json;
+  std::string result_brief;
+  const bool ran = RunRequest(job, request, hooks, &result_json, &result_brief, &fit_error);
   hooks.should_stop();
   progress->Flush();
   {
@@ -130,8 +170,8 @@ void WorkerPool::RunJob(const JobRecord& job) {
     store_->FinishJob(job.id, JobState::kFailed, "", fit_error, &error);
   } else {
     finished.state = is_cancelled ? JobState::kCancelled : JobState::kDone;
-    finished.result_json = EncodeFitOutcome(outcome).dump();
-    brief = BriefReport(job, outcome);
+    finished.result_json = std::move(result_json);
+    brief = std::move(result_brief);
     if (is_cancelled) brief += " (cancelled)";
     store_->FinishJob(job.id, finished.state, finished.result_json, "", &error);
   }
