@@ -13,6 +13,7 @@
 
 #include <sys/resource.h>
 
+#include <algorithm>
 #include <atomic>
 #include <cstdio>
 #include <cstdlib>
@@ -43,7 +44,8 @@ struct Run {
   double cpu = 0;
   int starts = 0;
   double best_rss = 0;
-  double fit_seconds = 0;  // sum of the start log's per-fit wall times
+  double fit_seconds = 0;      // sum of the start log's per-fit wall times
+  double max_fit_seconds = 0;  // the longest fit
 };
 
 struct Args {
@@ -160,6 +162,7 @@ int main(int argc, char** argv) {
     start_points.clear();
     for (const StartRecord& record : summary.starts) {
       result.fit_seconds += record.seconds;
+      result.max_fit_seconds = std::max(result.max_fit_seconds, record.seconds);
       start_points.push_back(record.start);
     }
     if (args.profile) std::printf("%s\n", summary.BriefReport().c_str());
@@ -167,7 +170,8 @@ int main(int argc, char** argv) {
   };
   if (args.profile) {
     const Run once = run(args.profile_threads);
-    std::printf("wall %.3f s, cpu %.3f s, fits %.3f s\n", once.wall, once.cpu, once.fit_seconds);
+    std::printf("wall %.3f s, cpu %.3f s, fits %.3f s (mean %.4f s, longest %.4f s)\n", once.wall,
+                once.cpu, once.fit_seconds, once.fit_seconds / once.starts, once.max_fit_seconds);
     return 0;
   }
 

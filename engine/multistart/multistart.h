@@ -32,8 +32,8 @@ bool ValidateMultistartInput(const Problem& problem, const std::vector<StartCand
 
 // Runs the schedule. Never throws for a numerical outcome: failed starts are records.
 // Invalid input returns a summary with stop == kInvalidInput and the message, having run
-// nothing. problem.model is used by the calling thread only between rounds; the workers
-// use Model::Clone().
+// nothing. problem.model is used by the calling thread only (clustering, statistics);
+// every fit, the calling thread's included, uses a Model::Clone().
 MultistartSummary RunMultistart(const Problem& problem,
                                 const std::vector<StartCandidate>& candidates, const SearchBox& box,
                                 const MultistartOptions& options);

@@ -49,7 +49,8 @@ struct SearchBox {
 
 // Called after every finished start with the number of starts finished, the number
 // planned and the best converged rss so far (NaN before the first). Called from the
-// worker threads, one call at a time; it must not block for long.
+// worker threads, one call at a time; it must not block for long. It is live: a start of
+// the round discarded when the stopping rule fires may have been counted already.
 using MultistartProgressCallback =
     std::function<void(int num_finished, int num_planned, double best_rss)>;
 
@@ -60,18 +61,21 @@ struct MultistartOptions {
   int max_starts = 0;
   // Seed of every random stream (Sobol digital shift, jitter). Default 7.
   std::uint64_t seed = 7;
-  // Worker threads, the calling thread included; at most round_size are used. Default:
-  // hardware concurrency (>= 1). Results do not depend on it. Must be in [1, 256].
+  // Worker threads, the calling thread included; at most 2 * round_size are used (two
+  // rounds are in flight). Default: hardware concurrency (>= 1). Results do not depend on
+  // it. Must be in [1, 256].
   int num_threads = DefaultNumThreads();
-  // Starts per scheduling round. A round's starts depend only on the results of earlier
-  // rounds, so the summary depends on this but not on num_threads. Default 8. In [1, 4096].
+  // Starts per scheduling round. Round r's starts depend only on the results of rounds
+  // 0 .. r - 2 (round r - 1 is still running when r is planned), so the summary depends on
+  // this but not on num_threads. Default 8. In [1, 4096].
   int round_size = 8;
   // Wall-clock limit of the whole run in seconds; infinity means none. Must be > 0.
   double deadline_seconds = std::numeric_limits<double>::infinity();
 
   // Boender & Rinnooy Kan (1987) stopping rule, evaluated at round boundaries after every
   // seeded candidate ran: stop when the posterior expected number of unseen basins
-  // w (w + 1) / (n - w - 2) is below stopping_threshold. Default on, threshold 0.5 (> 0).
+  // w (w + 1) / (n - w - 2) is below stopping_threshold; the round in flight is then
+  // discarded. Default on, threshold 0.5 (> 0).
   bool use_stopping_rule = true;
   double stopping_threshold = 0.5;
 

@@ -154,6 +154,8 @@ TEST_CASE("Multistart: progress reports every finished start and the best rss", 
   MultistartOptions options;
   options.max_starts = 24;
   options.num_threads = 2;
+  // With the rule on, a start of the round discarded at the stop may be reported too.
+  options.use_stopping_rule = false;
   options.progress = [&](int num_finished, int num_planned, double best_rss) {
     ++calls;  // serialised by the driver
     last_finished = num_finished;
@@ -174,6 +176,32 @@ TEST_CASE("Multistart: progress reports every finished start and the best rss", 
   CHECK(local_callback_called);
   CHECK(std::abs(summary.basins[0].parameters[1] - 0.7) < 0.01);
   CHECK(summary.BestStart()->rss == Approx(summary.basins[0].rss).epsilon(kFitTolerance));
+}
+
+TEST_CASE("Multistart: progress under the stopping rule counts no more than a round extra",
+          "[engine]") {
+  const testing::PointwiseModel model = testing::ExpDecayModel();
+  const Problem problem = MakeProblem(
+      model, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
+  for (int threads : {1, 2}) {
+    std::atomic<int> calls{0}, last_finished{0};
+    MultistartOptions options;
+    options.max_starts = 200;
+    options.num_threads = threads;
+    options.progress = [&](int num_finished, int, double) {
+      ++calls;
+      last_finished = num_finished;
+    };
+    const MultistartSummary summary =
+        RunMultistart(problem, {{"user", Vec({2.0, 0.5})}}, {}, options);
+    INFO(threads << " threads: " << summary.BriefReport());
+    REQUIRE(summary.stop == MultistartStop::kStoppingRule);
+    CHECK(last_finished == calls);
+    // One thread never starts the round in flight before the rule is evaluated.
+    if (threads == 1) CHECK(calls == summary.num_starts_run);
+    CHECK(calls >= summary.num_starts_run);
+    CHECK(calls <= summary.num_starts_run + options.round_size);
+  }
 }
 
 }  // namespace

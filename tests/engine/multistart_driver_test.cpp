@@ -197,6 +197,40 @@ TEST_CASE("Multistart: failed starts, odd rounds and log scales are thread-count
   CHECK(std::abs(below_one - sobol / 2) <= 2);
 }
 
+TEST_CASE("Multistart: jitter reacts to the rounds before the one in flight", "[engine]") {
+  // Eight candidates where the model is undefined (intercept > 5): round 0 finds no basin,
+  // round 1's Sobol points do. Round 1 is planned after round 0, round 2 while round 1 runs
+  // (from round 0 only), round 3 after round 1: the jitter slots (ordinals 3, 7, ..., 23,
+  // starts 11, 15, ..., 31) are Sobol points in rounds 1 and 2 and perturb a basin in 3.
+  const testing::PointwiseModel line = testing::PartlyUndefinedLineModel();
+  const Problem problem = MakeProblem(
+      line, [](double x) { return 1.0 + 2.0 * x; }, 30, 0.0, 0.1, 0.01);
+  SearchBox box;
+  box.lower = Vec({0.0, -5.0});
+  box.upper = Vec({10.0, 5.0});
+  std::vector<StartCandidate> candidates;
+  for (int c = 0; c < 8; ++c) {
+    candidates.push_back({"guess:c" + std::to_string(c), Vec({6.0 + 0.5 * c, 1.0})});
+  }
+  MultistartOptions options;
+  options.max_starts = 32;
+  options.use_stopping_rule = false;
+  for (int threads : {1, 2}) {
+    options.num_threads = threads;
+    const MultistartSummary summary = RunMultistart(problem, candidates, box, options);
+    INFO(summary.FullReport());
+    REQUIRE(summary.num_starts_run == 32);
+    for (int c = 0; c < 8; ++c) REQUIRE(summary.starts[c].basin == -1);
+    bool round_one_found_a_basin = false;
+    for (int index = 8; index < 16; ++index) {
+      round_one_found_a_basin = round_one_found_a_basin || summary.starts[index].basin >= 0;
+    }
+    REQUIRE(round_one_found_a_basin);
+    for (int index : {11, 15, 19, 23}) CHECK(summary.starts[index].origin == "sobol");
+    for (int index : {27, 31}) CHECK(summary.starts[index].origin == "jitter");
+  }
+}
+
 TEST_CASE("Multistart: a different seed moves the quasi-random starts", "[engine]") {
   const SineCase sine;
   MultistartOptions options;

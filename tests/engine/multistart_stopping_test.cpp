@@ -101,6 +101,33 @@ TEST_CASE("Multistart: the rule stops a one-basin problem long before a many-bas
   CHECK(many_basins.num_starts_run <= many_basins.num_starts_planned);
 }
 
+TEST_CASE("Multistart: the round in flight when the rule fires never reaches the summary",
+          "[engine]") {
+  const testing::PointwiseModel decay = testing::ExpDecayModel();
+  const Problem problem = MakeProblem(
+      decay, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
+  SearchBox box;
+  box.lower = Vec({0.1, 0.01});
+  box.upper = Vec({10.0, 10.0});
+  for (int threads : {1, 2, 8}) {
+    MultistartOptions options = RuleOptions();
+    options.num_threads = threads;
+    const MultistartSummary summary =
+        RunMultistart(problem, {{"user", Vec({2.0, 0.5})}}, box, options);
+    INFO(threads << " threads: " << summary.BriefReport());
+    REQUIRE(summary.stop == MultistartStop::kStoppingRule);
+    // Whole rounds only, in index order, none of them cancelled by the discard.
+    CHECK(summary.num_starts_run == summary.num_rounds * options.round_size);
+    REQUIRE(static_cast<int>(summary.starts.size()) == summary.num_starts_run);
+    for (int i = 0; i < summary.num_starts_run; ++i) {
+      CHECK(summary.starts[i].index == i);
+      CHECK(summary.starts[i].termination != Termination::kCancelled);
+    }
+    // The estimate at the end is the one that stopped the run.
+    CHECK(summary.expected_unseen_basins < options.stopping_threshold);
+  }
+}
+
 TEST_CASE("Multistart: the rule never fires before every seeded candidate ran", "[engine]") {
   const testing::PointwiseModel decay = testing::ExpDecayModel();
   const Problem problem = MakeProblem(

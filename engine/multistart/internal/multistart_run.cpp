@@ -20,9 +20,12 @@ constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 constexpr std::uint64_t kShiftStream = ~std::uint64_t{0};
 // Jitter perturbs one of the kJitterBasins best basins, chosen uniformly.
 constexpr int kJitterBasins = 3;
-// Rounds on the pool at once: round r + 1 is planned from the rounds before r, so it can
-// run while r's last starts finish (docs/multistart.md, "Rounds and threads").
+// Rounds on the pool at once from round 1 on: round r + 1 is planned from the rounds
+// before r, so it can run while r's last starts finish (docs/multistart.md, "Rounds and
+// threads").
 constexpr int kRoundsInFlight = 2;
+// At most this many model values (8 bytes each) of weighted curves are kept between rounds.
+constexpr Eigen::Index kCurveCacheValues = Eigen::Index{1} << 22;
 // Costs within this share of the weighted total sum of squares compare equal (exact fits).
 constexpr double kCostFloorShare = 1e-12;
 
@@ -45,7 +48,6 @@ MultistartRun::MultistartRun(const Problem& problem, const std::vector<StartCand
       options_(options),
       started_(started),
       box_(ResolveBox(problem, candidates, box)),
-      symmetries_(problem.model->Symmetries()),
       sobol_(std::max(1, problem.NumFree())),
       pool_(std::min(options.num_threads, kRoundsInFlight * options.round_size)) {
   RandomStream shift_stream(options.seed, kShiftStream);
@@ -219,7 +221,7 @@ void MultistartRun::UpdateBasins() {
     auto canonical = canonical_by_start_.find(record.index);
     if (canonical == canonical_by_start_.end()) {
       canonical =
-          canonical_by_start_.emplace(record.index, Canonicalize(record.end, symmetries_)).first;
+          canonical_by_start_.emplace(record.index, Canonicalize(problem_, record.end)).first;
     }
     points.push_back({record.index, record.rss, canonical->second});
     record_of_point.push_back(static_cast<int>(r));
@@ -243,7 +245,21 @@ void MultistartRun::UpdateBasins() {
     }
     return found->second.first;
   };
-  const std::vector<Cluster> clusters = ClusterEndPoints(points, tolerances, errors_of_leader);
+  // Curves are kept across rounds (each round re-clusters every end point), within a
+  // memory budget; a curve not kept is recomputed, to the same values.
+  auto curve_of = [&](int position) -> Eigen::VectorXd {
+    const int start = points[position].start_index;
+    const auto found = curve_by_start_.find(start);
+    if (found != curve_by_start_.end()) return found->second;
+    Eigen::VectorXd curve = WeightedCurve(problem_, points[position].canonical);
+    if (num_cached_curve_values_ + curve.size() <= kCurveCacheValues) {
+      num_cached_curve_values_ += curve.size();
+      curve_by_start_.emplace(start, curve);
+    }
+    return curve;
+  };
+  const std::vector<Cluster> clusters =
+      ClusterEndPoints(points, tolerances, errors_of_leader, curve_of);
 
   summary_.basins.clear();
   for (size_t c = 0; c < clusters.size(); ++c) {
@@ -313,23 +329,25 @@ MultistartSummary MultistartRun::Execute() {
   std::ostringstream message;
   summary_.stop = MultistartStop::kBudget;
 
-  // Rounds are planned, dispatched and absorbed in order on this thread. Round r + 2 is
-  // planned once round r is absorbed, so round r + 1 keeps the workers busy meanwhile: a
-  // round's content depends on every round but the one just before it, never on timing.
+  // Rounds are planned, dispatched and absorbed in order on this thread. Round 0 runs
+  // alone, so that round 1's jitter sees the candidates' basins. From then on round r + 2
+  // is planned once round r is absorbed, and round r + 1 keeps the workers busy meanwhile:
+  // a round's content depends on the rounds before it but the one just before (round 1:
+  // on round 0), never on timing.
   std::deque<std::unique_ptr<RoundInFlight>> in_flight;
   int next_begin = 0, next_number = 0;
-  auto dispatch_next = [&] {
-    if (next_begin >= planned || saw_cancel_ || saw_deadline_) return;
-    const int end = std::min(next_begin + options_.round_size, planned);
-    in_flight.push_back(Dispatch(next_number++, next_begin, end));
-    next_begin = end;
+  auto dispatch = [&] {
+    while (static_cast<int>(in_flight.size()) < kRoundsInFlight && next_begin < planned &&
+           !saw_cancel_ && !saw_deadline_) {
+      const int end = std::min(next_begin + options_.round_size, planned);
+      in_flight.push_back(Dispatch(next_number++, next_begin, end));
+      next_begin = end;
+      if (next_number == 1) break;
+    }
   };
   if (IsCancelled()) saw_cancel_ = true;
   if (DeadlinePassed()) saw_deadline_ = true;
-  while (static_cast<int>(in_flight.size()) < kRoundsInFlight && next_begin < planned) {
-    dispatch_next();
-    if (in_flight.empty()) break;
-  }
+  dispatch();
   while (!in_flight.empty()) {
     Absorb(in_flight.front().get());
     const int absorbed_end = in_flight.front()->end;
@@ -354,7 +372,7 @@ MultistartSummary MultistartRun::Execute() {
         break;
       }
     }
-    dispatch_next();
+    dispatch();
   }
   const int num_run = static_cast<int>(summary_.starts.size());
   if (saw_cancel_) {

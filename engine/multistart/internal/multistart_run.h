@@ -85,7 +85,6 @@ class MultistartRun {
   const MultistartOptions& options_;
   Clock::time_point started_;
   ResolvedBox box_;
-  std::vector<PermutationSymmetry> symmetries_;
   SobolSequence sobol_;
   std::vector<std::uint32_t> sobol_shift_;
   std::uint64_t num_sobol_planned_ = 0;
@@ -109,6 +108,9 @@ class MultistartRun {
   std::map<int, std::pair<Eigen::VectorXd, bool>> errors_by_start_;
   // Canonical end point of every converged start, by start index, computed once.
   std::map<int, Eigen::VectorXd> canonical_by_start_;
+  // Weighted curve at converged end points, by start index (same-curve clustering).
+  std::map<int, Eigen::VectorXd> curve_by_start_;
+  Eigen::Index num_cached_curve_values_ = 0;
   MultistartSummary summary_;
 };
 
