@@ -14,6 +14,8 @@
 #include <string>
 #include <vector>
 
+#include "tests/engine/test_models.h"
+
 namespace foothold {
 namespace {
 
@@ -26,41 +28,11 @@ constexpr double kMinCertifiedLre = 8;
 // we measure agreement better than 1e-12 relative.
 constexpr double kScipyTolerance = 1e-10;
 
-using Values = std::function<double(double x, const double* b)>;
-using Gradient = std::function<void(double x, const double* b, double* g)>;
+// The models below are written out by hand: value and analytic gradient per point.
+using testing::PointwiseModel;
 
-// A one-predictor model written out by hand: value and analytic gradient per point.
-class HandModel : public Model {
- public:
-  HandModel(std::vector<std::string> names, Values value, Gradient gradient)
-      : names_(std::move(names)), value_(std::move(value)), gradient_(std::move(gradient)) {}
-  int NumParameters() const override { return static_cast<int>(names_.size()); }
-  const std::vector<std::string>& ParameterNames() const override { return names_; }
-  const std::vector<std::string>& PredictorNames() const override { return predictors_; }
-  void Evaluate(const Eigen::MatrixXd& x, const double* params, double* values) const override {
-    for (Eigen::Index i = 0; i < x.rows(); ++i) values[i] = value_(x(i, 0), params);
-  }
-  void EvaluateWithJacobian(const Eigen::MatrixXd& x, const double* params, double* values,
-                            double* jacobian) const override {
-    const Eigen::Index n = x.rows();
-    std::vector<double> g(names_.size());
-    for (Eigen::Index i = 0; i < n; ++i) {
-      values[i] = value_(x(i, 0), params);
-      gradient_(x(i, 0), params, g.data());
-      for (size_t j = 0; j < g.size(); ++j) jacobian[j * n + i] = g[j];
-    }
-  }
-  std::unique_ptr<Model> Clone() const override { return std::make_unique<HandModel>(*this); }
-
- private:
-  std::vector<std::string> names_;
-  std::vector<std::string> predictors_ = {"x"};
-  Values value_;
-  Gradient gradient_;
-};
-
-HandModel LineModel() {
-  return HandModel(
+PointwiseModel LineModel() {
+  return PointwiseModel(
       {"slope", "intercept"}, [](double x, const double* b) { return b[0] * x + b[1]; },
       [](double x, const double*, double* g) {
         g[0] = x;
@@ -139,7 +111,7 @@ void ReadNist(const std::string& name, std::vector<double>* x, std::vector<doubl
 
 struct NistCase {
   std::string name;
-  HandModel model;
+  PointwiseModel model;
   std::vector<double> certified, certified_sd;
   double certified_rss, certified_rsd;
   int dof;
@@ -150,7 +122,7 @@ std::vector<NistCase> NistCases() {
   std::vector<NistCase> cases;
   cases.push_back(
       {"Misra1a",
-       HandModel(
+       PointwiseModel(
            {"b1", "b2"}, [](double x, const double* b) { return b[0] * (1 - std::exp(-b[1] * x)); },
            [](double x, const double* b, double* g) {
              g[0] = 1 - std::exp(-b[1] * x);
@@ -163,7 +135,7 @@ std::vector<NistCase> NistCases() {
        12});
   cases.push_back(
       {"DanWood",
-       HandModel(
+       PointwiseModel(
            {"b1", "b2"}, [](double x, const double* b) { return b[0] * std::pow(x, b[1]); },
            [](double x, const double* b, double* g) {
              g[0] = std::pow(x, b[1]);
@@ -176,7 +148,7 @@ std::vector<NistCase> NistCases() {
        4});
   cases.push_back(
       {"Chwirut2",
-       HandModel(
+       PointwiseModel(
            {"b1", "b2", "b3"},
            [](double x, const double* b) { return std::exp(-b[0] * x) / (b[1] + b[2] * x); },
            [](double x, const double* b, double* g) {
@@ -194,7 +166,7 @@ std::vector<NistCase> NistCases() {
   // number 5.7e4 and corr(b1, b2) = -0.99995 at the certified values (measured).
   cases.push_back(
       {"Bennett5",
-       HandModel(
+       PointwiseModel(
            {"b1", "b2", "b3"},
            [](double x, const double* b) { return b[0] * std::pow(b[1] + x, -1 / b[2]); },
            [](double x, const double* b, double* g) {
@@ -216,7 +188,7 @@ std::vector<NistCase> NistCases() {
 TEST_CASE("FitStatistics: straight line matches the closed-form OLS standard errors", "[engine]") {
   // Textbook simple regression: se(slope) = s / sqrt(Sxx), se(intercept) =
   // s * sqrt(1/n + xbar^2 / Sxx), s^2 = rss / (n - 2).
-  const HandModel model = LineModel();
+  const PointwiseModel model = LineModel();
   const OlsLine ols = FitOlsLine(kLineX, kLineY);
   const FitStatistics stats = ComputeFitStatistics(MakeProblem(model, kLineX, kLineY),
                                                    Eigen::Vector2d(ols.slope, ols.intercept));
@@ -240,7 +212,7 @@ TEST_CASE("FitStatistics: straight line matches the closed-form OLS standard err
 
 TEST_CASE("FitStatistics: t quantile for dof 10 at 95% and the interval it gives", "[engine]") {
   // 2.228138852 is t_{0.975, 10} from the standard t table (from memory).
-  const HandModel model = LineModel();
+  const PointwiseModel model = LineModel();
   const OlsLine ols = FitOlsLine(kLineX, kLineY);
   const Eigen::Vector2d params(ols.slope, ols.intercept);
   const FitStatistics stats = ComputeFitStatistics(MakeProblem(model, kLineX, kLineY), params);
@@ -254,13 +226,13 @@ TEST_CASE("FitStatistics: parameter units do not change the rank or the conditio
   // f = (1e8 b1) x + 1e-8 b2 is the line in other units. Unscaled, J^T J would have a
   // condition number near 1e32 and look singular; after unit column norms it is the line's.
   const double kUnit = 1e8;
-  const HandModel model(
+  const PointwiseModel model(
       {"b1", "b2"}, [=](double x, const double* b) { return kUnit * b[0] * x + b[1] / kUnit; },
       [=](double x, const double*, double* g) {
         g[0] = kUnit * x;
         g[1] = 1 / kUnit;
       });
-  const HandModel line = LineModel();
+  const PointwiseModel line = LineModel();
   const OlsLine ols = FitOlsLine(kLineX, kLineY);
   const FitStatistics scaled =
       ComputeFitStatistics(MakeProblem(model, kLineX, kLineY),
@@ -330,7 +302,7 @@ print(repr(np.linalg.cond(jw / np.linalg.norm(jw, axis=0))),
 )";
 
 TEST_CASE("FitStatistics: weighted fit statistics match scipy curve_fit and numpy", "[engine]") {
-  const HandModel model(
+  const PointwiseModel model(
       {"amplitude", "tau", "baseline"},
       [](double x, const double* b) { return b[0] * std::exp(-x / b[1]) + b[2]; },
       [](double x, const double* b, double* g) {
@@ -398,7 +370,7 @@ TEST_CASE("FitStatistics: weighted fit statistics match scipy curve_fit and nump
 TEST_CASE("FitStatistics: absolute sigma uses scale 1 and the normal quantile", "[engine]") {
   // Weighted straight line (Numerical Recipes 15.2, from memory): S = sum w, Sx = sum w x,
   // Sxx = sum w x^2, D = S Sxx - Sx^2, var(intercept) = Sxx / D, var(slope) = S / D.
-  const HandModel model = LineModel();
+  const PointwiseModel model = LineModel();
   std::vector<double> sigma;
   double s = 0, sx = 0, sxx = 0;
   for (double xi : kLineX) {
@@ -428,7 +400,7 @@ TEST_CASE("FitStatistics: absolute sigma uses scale 1 and the normal quantile", 
 }
 
 TEST_CASE("FitStatistics: (a+b)*x is rank 1 with both parameters unidentifiable", "[engine]") {
-  const HandModel model(
+  const PointwiseModel model(
       {"a", "b"}, [](double x, const double* b) { return (b[0] + b[1]) * x; },
       [](double x, const double*, double* g) { g[0] = g[1] = x; });
   const FitStatistics stats =
@@ -450,7 +422,7 @@ TEST_CASE("FitStatistics: an identifiable parameter beside a null direction keep
   // (a+b)*x + c is a line with slope a+b, so se(c) is the OLS intercept error, except that
   // dof counts free parameters (n - 3, not n - rank = n - 2): the variance estimate is
   // rss / (n - 3), larger by (n - 2) / (n - 3).
-  const HandModel model(
+  const PointwiseModel model(
       {"a", "b", "c"}, [](double x, const double* b) { return (b[0] + b[1]) * x + b[2]; },
       [](double x, const double*, double* g) {
         g[0] = g[1] = x;
@@ -474,7 +446,7 @@ TEST_CASE("FitStatistics: an identifiable parameter beside a null direction keep
 TEST_CASE("FitStatistics: a parameter the model ignores is the only unidentifiable one",
           "[engine]") {
   // Its Jacobian column is zero: an exact null direction e_b, orthogonal to the slope.
-  const HandModel model(
+  const PointwiseModel model(
       {"slope", "b"}, [](double x, const double* b) { return b[0] * x; },
       [](double x, const double*, double* g) {
         g[0] = x;
@@ -492,7 +464,7 @@ TEST_CASE("FitStatistics: a parameter the model ignores is the only unidentifiab
 TEST_CASE("FitStatistics: a fixed parameter has zero rows and a point interval", "[engine]") {
   // With the intercept fixed at q, slope = sum x (y - q) / sum x^2 and
   // se(slope) = s / sqrt(sum x^2), s^2 = rss / (n - 1): regression through a fixed point.
-  const HandModel model = LineModel();
+  const PointwiseModel model = LineModel();
   Problem problem = MakeProblem(model, kLineX, kLineY);
   problem.is_fixed = {false, true};
   const double q = 0.5;
@@ -530,7 +502,7 @@ TEST_CASE("FitStatistics: Durbin-Watson and runs on a hand-worked sequence in x 
   //   Runs (zero skipped): + + | - - | + -> 3 runs, n1 = 3, n2 = 2.
   //   E[R] = 2*3*2/5 + 1 = 3.4; Var[R] = 12 (12 - 5) / (25 * 4) = 0.84;
   //   z = (3 - 3.4) / sqrt(0.84) = -0.4364357805; p = erfc(|z| / sqrt 2) = 0.6625205835.
-  const HandModel model(
+  const PointwiseModel model(
       {"c"}, [](double, const double* b) { return b[0]; },
       [](double, const double*, double* g) { g[0] = 1; });
   Problem problem = MakeProblem(model, {3, 1, 4, 5, 2, 4}, {0, 1, -1, 1, 2, -2});
@@ -569,7 +541,7 @@ TEST_CASE("FitStatistics: AIC, AICc, BIC, R2 and RMSE on a worked constant fit",
   // AIC = 5 ln 2 + 4 = 7.4657359028; AICc = AIC + 2*2*3/(5-2-1) = AIC + 6;
   // BIC = 5 ln 2 + 2 ln 5 = 6.6846117277; R2 = 0 (rss equals the total sum of squares);
   // RMSE = sqrt(2); se(c) = sqrt((10/4) / 5) = sqrt(0.5).
-  const HandModel model(
+  const PointwiseModel model(
       {"c"}, [](double, const double* b) { return b[0]; },
       [](double, const double*, double* g) { g[0] = 1; });
   const FitStatistics stats = ComputeFitStatistics(
@@ -586,7 +558,7 @@ TEST_CASE("FitStatistics: AIC, AICc, BIC, R2 and RMSE on a worked constant fit",
 
 TEST_CASE("FitStatistics: at_bound within the relative tolerance, absolute at a zero bound",
           "[engine]") {
-  const HandModel model(
+  const PointwiseModel model(
       {"a", "b", "c"}, [](double x, const double* b) { return b[0] + b[1] * x + b[2] * x * x; },
       [](double x, const double*, double* g) {
         g[0] = 1;
@@ -607,7 +579,7 @@ TEST_CASE("FitStatistics: at_bound within the relative tolerance, absolute at a 
 
 TEST_CASE("FitStatistics: dof 0 exact fit has no error estimate without absolute sigma",
           "[engine]") {
-  const HandModel model = LineModel();
+  const PointwiseModel model = LineModel();
   Problem problem = MakeProblem(model, {1, 3}, {2, 6});
   const FitStatistics stats = ComputeFitStatistics(problem, Eigen::Vector2d(2, 0));
   CHECK(stats.dof == 0);
@@ -626,7 +598,7 @@ TEST_CASE("FitStatistics: dof 0 exact fit has no error estimate without absolute
 TEST_CASE("FitStatistics: r2 is undefined for a constant response", "[engine]") {
   // 0.1 is not exact in binary, so the total sum of squares about the computed mean need not
   // be exactly 0; the check is on the data instead.
-  const HandModel model = LineModel();
+  const PointwiseModel model = LineModel();
   const FitStatistics stats =
       ComputeFitStatistics(MakeProblem(model, {1, 2, 3, 4, 5, 6, 7}, std::vector<double>(7, 0.1)),
                            Eigen::Vector2d(0.01, 0.05));
@@ -636,7 +608,7 @@ TEST_CASE("FitStatistics: r2 is undefined for a constant response", "[engine]") 
 }
 
 TEST_CASE("FitStatistics: non-finite model output is reported, not computed on", "[engine]") {
-  const HandModel model(
+  const PointwiseModel model(
       {"b"}, [](double x, const double* b) { return std::log(b[0]) * x; },
       [](double x, const double* b, double* g) { g[0] = x / b[0]; });
   const FitStatistics stats = ComputeFitStatistics(MakeProblem(model, {1, 2, 3}, {1, 2, 3}),

@@ -1,68 +1,20 @@
 #pragma once
-// Small models and problems for the multistart tests. Each carries its own answer.
+// Small models and problems for the multistart tests. Each carries its own answer. The
+// model type, the exponential decay, MakeProblem and Vec are shared with other engine tests
+// (tests/engine/test_models.h).
 
 #include <Eigen/Core>
 #include <cmath>
 #include <functional>
-#include <memory>
 #include <string>
 #include <vector>
 
 #include "engine/model/model.h"
 #include "engine/solve/problem.h"
+#include "tests/engine/test_models.h"
 
 namespace foothold {
 namespace testing {
-
-// A model from a value function and its gradient, evaluated point by point, with optional
-// permutation symmetries.
-class PointwiseModel : public Model {
- public:
-  using ValueFn = std::function<double(double x, const double* p)>;
-  using GradFn = std::function<void(double x, const double* p, double* grad)>;
-  PointwiseModel(std::vector<std::string> names, ValueFn value, GradFn grad,
-                 std::vector<PermutationSymmetry> symmetries = {})
-      : names_(std::move(names)),
-        value_(std::move(value)),
-        grad_(std::move(grad)),
-        symmetries_(std::move(symmetries)) {}
-  int NumParameters() const override { return static_cast<int>(names_.size()); }
-  const std::vector<std::string>& ParameterNames() const override { return names_; }
-  const std::vector<std::string>& PredictorNames() const override { return predictors_; }
-  void Evaluate(const Eigen::MatrixXd& x, const double* p, double* values) const override {
-    for (Eigen::Index i = 0; i < x.rows(); ++i) values[i] = value_(x(i, 0), p);
-  }
-  void EvaluateWithJacobian(const Eigen::MatrixXd& x, const double* p, double* values,
-                            double* jacobian) const override {
-    const Eigen::Index n = x.rows();
-    std::vector<double> grad(names_.size());
-    for (Eigen::Index i = 0; i < n; ++i) {
-      values[i] = value_(x(i, 0), p);
-      grad_(x(i, 0), p, grad.data());
-      for (size_t j = 0; j < names_.size(); ++j) jacobian[j * n + i] = grad[j];
-    }
-  }
-  std::vector<PermutationSymmetry> Symmetries() const override { return symmetries_; }
-  std::unique_ptr<Model> Clone() const override { return std::make_unique<PointwiseModel>(*this); }
-
- private:
-  std::vector<std::string> names_;
-  std::vector<std::string> predictors_{"x"};
-  ValueFn value_;
-  GradFn grad_;
-  std::vector<PermutationSymmetry> symmetries_;
-};
-
-// amplitude * exp(-rate * x): one basin for positive rates.
-inline PointwiseModel ExpDecayModel() {
-  return PointwiseModel(
-      {"amplitude", "rate"}, [](double x, const double* p) { return p[0] * std::exp(-p[1] * x); },
-      [](double x, const double* p, double* g) {
-        const double e = std::exp(-p[1] * x);
-        g[0] = e;
-        g[1] = -p[0] * x * e;
-      });
-}
 
 // amplitude * sin(2 pi frequency x): the cost has a local minimum near every frequency whose
 // sine is orthogonal-ish to the data, many basins in frequency.
@@ -132,30 +84,6 @@ inline PointwiseModel PartlyUndefinedLineModel() {
         g[0] = 1;
         g[1] = x;
       });
-}
-
-// A problem on x = x_begin + i * step, i < n, with y = truth(x) plus a deterministic
-// sign-alternating perturbation of the given amplitude (so the optimum is not exact).
-inline Problem MakeProblem(const Model& model, const std::function<double(double)>& truth, int n,
-                           double x_begin, double step, double perturbation) {
-  Problem problem;
-  problem.model = &model;
-  problem.data.predictor_names = {"x"};
-  problem.data.predictors.resize(n, 1);
-  problem.data.response.resize(n);
-  for (int i = 0; i < n; ++i) {
-    const double x = x_begin + step * i;
-    problem.data.predictors(i, 0) = x;
-    problem.data.response[i] = truth(x) + perturbation * ((i % 3) - 1.0);
-  }
-  return problem;
-}
-
-inline Eigen::VectorXd Vec(std::initializer_list<double> values) {
-  Eigen::VectorXd v(values.size());
-  int k = 0;
-  for (double value : values) v[k++] = value;
-  return v;
 }
 
 }  // namespace testing
