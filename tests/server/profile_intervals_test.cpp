@@ -289,3 +289,22 @@ TEST_CASE("ProfileIntervals: foothold fit --intervals profile prints them", "[se
   CHECK(rejected.err.find("intervals = 'bootstrap'") != std::string::npos);
   CHECK(Run({"fit", "--help"}).out.find("--intervals wald|profile") != std::string::npos);
 }
+
+TEST_CASE("ProfileIntervals: a request document with intervals profile gets them", "[server]") {
+  Json request_document = foothold::EncodeFitRequest(GaussianRequest());
+  request_document["intervals"] = "profile";
+  FitRequest request;
+  std::string error;
+  REQUIRE(foothold::DecodeFitRequest(request_document, &request, &error));
+  CHECK(request.intervals == "profile");
+  const Json result = foothold::EncodeFitOutcome(Fit(request));
+  CHECK(result.at("best").at("profile").at("computed") == true);
+  CHECK(result.at("best").at("parameters").at("center").at("profile_interval").is_array());
+
+  request_document["intervals"] = "likelihood";
+  FitRequest bad;
+  bool accepted = foothold::DecodeFitRequest(request_document, &bad, &error);
+  if (accepted) accepted = bad.Validate(&error);
+  CHECK_FALSE(accepted);
+  CHECK(error.find("intervals = 'likelihood'") != std::string::npos);
+}
