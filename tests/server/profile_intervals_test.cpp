@@ -308,3 +308,38 @@ TEST_CASE("ProfileIntervals: a request document with intervals profile gets them
   CHECK_FALSE(accepted);
   CHECK(error.find("intervals = 'likelihood'") != std::string::npos);
 }
+
+TEST_CASE("ProfileIntervals: a decay seen over a tenth of its lifetime flags intervals_disagree",
+          "[server]") {
+  // 30 points on [0, 1.45] of 5 exp(-x/3) + 0.5 with absolute sigma 0.07: the curvature of
+  // the data barely shows, so the profile of tau reaches far beyond its Wald interval.
+  std::vector<double> x;
+  std::vector<double> y;
+  for (int i = 0; i < 30; ++i) {
+    x.push_back(0.05 * i);
+    y.push_back(5 * std::exp(-x.back() / 3) + 0.5 + 0.098 * std::sin(2.1 * i + 0.4));
+  }
+  FitRequest request;
+  std::string error;
+  REQUIRE(request.data.AddColumn("x", x, &error));
+  REQUIRE(request.data.AddColumn("y", y, &error));
+  REQUIRE(request.data.AddColumn("sigma", std::vector<double>(30, 0.07), &error));
+  request.model.family = "exp_decay";
+  request.start = {{"amplitude", 5}, {"tau", 3}, {"baseline", 0.5}};
+  request.starts = 1;
+  request.intervals = "profile";
+  const FitOutcome outcome = Fit(request);
+  REQUIRE(outcome.profile.is_computed);
+  const foothold::ProfileInterval& tau = outcome.profile.intervals[1];
+  INFO(tau.message);
+  REQUIRE(tau.IsClosed());
+  const double estimate = outcome.best.parameters[1];
+  const double wald_upper = outcome.statistics.ci_high[1] - estimate;
+  CHECK((tau.upper - estimate) / wald_upper > 2);
+  CHECK(HasFlag(outcome, "intervals_disagree"));
+  // The same fit with the threshold raised past every ratio raises no such flag.
+  foothold::VerdictOptions lenient;
+  lenient.max_interval_ratio = 10;
+  const foothold::Verdict verdict = foothold::JudgeFit(outcome, lenient);
+  for (const std::string& flag : verdict.flags) CHECK(flag != "intervals_disagree");
+}
