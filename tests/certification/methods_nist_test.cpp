@@ -36,13 +36,11 @@ struct MethodRun {
 MethodRun Fit(const NistProblem& p, const std::vector<double>& start_values, LocalMethod method,
               bool use_variable_projection = true) {
   std::string error;
-  std::unique_ptr<ExpressionModel> model =
-      ParseExpressionModel(p.model, p.predictors, p.ParameterNames(), ExpressionOptions{}, &error);
-  REQUIRE(model);
-  Problem problem;
-  problem.model = model.get();
-  REQUIRE(BuildNistDataset(p, &problem.data, &error));
-  REQUIRE(problem.Validate(&error));
+  NistFit fit;
+  const bool is_set_up = SetUpNistFit(p, &fit, &error);
+  INFO("NIST StRD " << p.name << ": " << error);
+  REQUIRE(is_set_up);
+  const Problem& problem = fit.problem;
   const Eigen::VectorXd start =
       Eigen::Map<const Eigen::VectorXd>(start_values.data(), start_values.size());
   LocalFitOptions options;

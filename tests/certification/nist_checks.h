@@ -5,11 +5,15 @@
 // NIST ITL, https://www.itl.nist.gov/div898/strd/nls/nls_main.shtml, stored unchanged in
 // tests/data/nist-strd (README.md there for provenance, quirks and scoring).
 
+#include <Eigen/Core>
 #include <catch2/catch.hpp>
 #include <cmath>
+#include <memory>
 #include <string>
 #include <vector>
 
+#include "engine/model/expression_model.h"
+#include "engine/solve/problem.h"
 #include "tests/certification/nist_strd.h"
 
 namespace foothold {
@@ -47,6 +51,30 @@ inline const NistProblem& FindNistProblem(const std::string& name) {
   }
   FAIL("NIST StRD: no problem " << name);
   return NistProblems().front();
+}
+
+// A NIST problem set up the way a user's own expression is: the model text parsed with the
+// predictor columns and b1..bp, the response from its expression (log(y) for Nelson), no
+// bounds.
+struct NistFit {
+  std::unique_ptr<ExpressionModel> model;
+  Problem problem;  // problem.model is model.get()
+};
+
+// False with the parser's, the dataset's or the problem's message in *error.
+inline bool SetUpNistFit(const NistProblem& p, NistFit* fit, std::string* error) {
+  fit->model =
+      ParseExpressionModel(p.model, p.predictors, p.ParameterNames(), ExpressionOptions{}, error);
+  if (!fit->model) return false;
+  fit->problem = Problem();
+  fit->problem.model = fit->model.get();
+  return BuildNistDataset(p, &fit->problem.data, error) && fit->problem.Validate(error);
+}
+
+// NIST's Start 1 or Start 2 as a vector.
+inline Eigen::VectorXd NistStart(const NistProblem& p, int start_number) {
+  const std::vector<double>& values = start_number == 1 ? p.start1 : p.start2;
+  return Eigen::Map<const Eigen::VectorXd>(values.data(), values.size());
 }
 
 // The figures a fit is scored by: minimum log relative errors against the certified values.

@@ -63,16 +63,13 @@ NoStartRun FitWithoutStart(const NistProblem &p) {
   NoStartRun run;
   run.problem = p.name;
   run.difficulty = p.difficulty;
-  std::unique_ptr<ExpressionModel> model = ParseExpressionModel(
-      p.model, p.predictors, p.ParameterNames(), ExpressionOptions{}, &run.setup_error);
-  if (!model) return run;
-  Problem problem;
-  problem.model = model.get();
-  if (!BuildNistDataset(p, &problem.data, &run.setup_error)) return run;
-  if (!problem.Validate(&run.setup_error)) return run;
+  NistFit fit;
+  if (!SetUpNistFit(p, &fit, &run.setup_error)) return run;
+  const Problem &problem = fit.problem;
+  const ExpressionModel &model = *fit.model;
 
   GuessResult guess;
-  if (!GuessGeneric(*model, problem.data, Eigen::VectorXd(), Eigen::VectorXd(), GuessOptions{},
+  if (!GuessGeneric(model, problem.data, Eigen::VectorXd(), Eigen::VectorXd(), GuessOptions{},
                     &guess, &run.setup_error)) {
     run.setup_error = "GuessGeneric: " + run.setup_error;
     return run;

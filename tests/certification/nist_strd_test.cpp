@@ -60,20 +60,13 @@ Run FitFromStart(const NistProblem& p, int start_number) {
   run.difficulty = p.difficulty;
   run.start = start_number;
 
-  std::unique_ptr<ExpressionModel> model = ParseExpressionModel(
-      p.model, p.predictors, p.ParameterNames(), ExpressionOptions{}, &run.setup_error);
-  if (!model) return run;
-  Problem problem;
-  problem.model = model.get();
-  if (!BuildNistDataset(p, &problem.data, &run.setup_error)) return run;
-  if (!problem.Validate(&run.setup_error)) return run;
+  NistFit fit;
+  if (!SetUpNistFit(p, &fit, &run.setup_error)) return run;
   run.is_set_up = true;
+  const Problem& problem = fit.problem;
 
-  const std::vector<double>& start_values = start_number == 1 ? p.start1 : p.start2;
-  const Eigen::VectorXd start =
-      Eigen::Map<const Eigen::VectorXd>(start_values.data(), start_values.size());
   const LocalFitSummary summary =
-      MinimizeLevenbergMarquardt(problem, start, LevenbergMarquardtOptions{});
+      MinimizeLevenbergMarquardt(problem, NistStart(p, start_number), LevenbergMarquardtOptions{});
   const FitStatistics statistics = ComputeFitStatistics(problem, summary.parameters);
 
   run.termination = ToString(summary.termination);

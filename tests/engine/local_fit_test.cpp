@@ -13,6 +13,7 @@
 #include "engine/model/expression_model.h"
 #include "engine/model/families/families.h"
 #include "tests/certification/certification_support.h"
+#include "tests/certification/nist_checks.h"
 #include "tests/certification/nist_strd.h"
 #include "tests/certification/nist_symmetries.h"
 
@@ -23,8 +24,6 @@ namespace {
 constexpr double kRssTolerance = 1e-10;
 // ... and every parameter within this relative difference (absolute below 1).
 constexpr double kParameterTolerance = 1e-7;
-// NIST StRD pass mark: log relative error >= 6 on every parameter.
-constexpr double kCertifiedDigits = 6;
 
 Dataset MakeData(const Model& model, const Eigen::VectorXd& truth, double x0, double x1, int n,
                  double noise, std::uint64_t seed) {
@@ -37,6 +36,23 @@ Dataset MakeData(const Model& model, const Eigen::VectorXd& truth, double x0, do
   certification::SeededNormal normal(seed);
   for (int i = 0; i < n; ++i) data.response[i] += noise * normal.Normal();
   return data;
+}
+
+// The biexponential problem most tests share: amplitude1, tau1, amplitude2, tau2, baseline.
+Eigen::VectorXd BiexpTruth() { return (Eigen::VectorXd(5) << 3, 0.5, 1.5, 4.0, 0.2).finished(); }
+
+// `model` on x in [0, 20] from BiexpTruth() plus Gaussian noise.
+Problem BiexpProblem(const BiexpDecayModel& model, int num_points, double noise,
+                     std::uint64_t seed) {
+  Problem problem;
+  problem.model = &model;
+  problem.data = MakeData(model, BiexpTruth(), 0, 20, num_points, noise, seed);
+  return problem;
+}
+
+// A plain start: unit amplitudes, both rates off by about half.
+Eigen::VectorXd BiexpStart(double baseline) {
+  return (Eigen::VectorXd(5) << 1, 0.3, 1, 6, baseline).finished();
 }
 
 LocalFitOptions Options(bool projection) {
@@ -111,13 +127,8 @@ TEST_CASE("RunLocalFit: projection reaches the optimum of the full problem on fa
 
 TEST_CASE("RunLocalFit: switched off it is exactly plain Levenberg-Marquardt", "[engine]") {
   BiexpDecayModel model;
-  Eigen::VectorXd truth(5);
-  truth << 3, 0.5, 1.5, 4.0, 0.2;
-  Problem problem;
-  problem.model = &model;
-  problem.data = MakeData(model, truth, 0, 20, 100, 0.02, 8);
-  Eigen::VectorXd start(5);
-  start << 1, 0.3, 1, 6, 0;
+  const Problem problem = BiexpProblem(model, 100, 0.02, 8);
+  const Eigen::VectorXd start = BiexpStart(0);
   const LocalFitSummary plain = MinimizeLevenbergMarquardt(problem, start, {});
   const LocalFitSummary off = RunLocalFit(problem, start, Options(false));
   CHECK(off.parameters == plain.parameters);
@@ -130,27 +141,17 @@ TEST_CASE("RunLocalFit: switched off it is exactly plain Levenberg-Marquardt", "
 TEST_CASE("RunLocalFit: projection with sigma weights matches the weighted full problem",
           "[engine]") {
   BiexpDecayModel model;
-  Eigen::VectorXd truth(5);
-  truth << 3, 0.5, 1.5, 4.0, 0.2;
-  Problem problem;
-  problem.model = &model;
-  problem.data = MakeData(model, truth, 0, 20, 100, 0.02, 5);
+  Problem problem = BiexpProblem(model, 100, 0.02, 5);
   problem.data.sigma = (0.01 + 0.05 * problem.data.response.array().abs()).matrix();
-  Eigen::VectorXd start(5);
-  start << 1, 0.3, 1, 6, 0;
+  const Eigen::VectorXd start = BiexpStart(0);
   CheckSameOptimum(RunLocalFit(problem, start, Options(true)),
                    RunLocalFit(problem, start, Options(false)));
 }
 
 TEST_CASE("RunLocalFit: fixed or bounded linear parameters stay with the solver", "[engine]") {
   BiexpDecayModel model;
-  Eigen::VectorXd truth(5);
-  truth << 3, 0.5, 1.5, 4.0, 0.2;
-  Problem problem;
-  problem.model = &model;
-  problem.data = MakeData(model, truth, 0, 20, 100, 0.01, 9);
-  Eigen::VectorXd start(5);
-  start << 1, 0.3, 1, 6, 0.25;
+  Problem problem = BiexpProblem(model, 100, 0.01, 9);
+  const Eigen::VectorXd start = BiexpStart(0.25);
   problem.is_fixed = {false, false, false, false, true};  // baseline fixed at 0.25
   problem.lower = Eigen::VectorXd::Constant(5, -INFINITY);
   problem.upper = Eigen::VectorXd::Constant(5, INFINITY);
@@ -215,13 +216,9 @@ TEST_CASE("LocalFitOptions: Validate names the solver field", "[engine]") {
 TEST_CASE("RunLocalFit: projection needs fewer iterations on a biexponential from poor starts",
           "[engine]") {
   BiexpDecayModel model;
-  Eigen::VectorXd truth(5);
-  truth << 3, 0.5, 1.5, 4.0, 0.2;
-  Problem problem;
-  problem.model = &model;
-  problem.data = MakeData(model, truth, 0, 20, 200, 0.01, 21);
+  const Problem problem = BiexpProblem(model, 200, 0.01, 21);
   // The global optimum: plain LM from near the truth.
-  const double best = RunLocalFit(problem, truth, Options(false)).final_cost;
+  const double best = RunLocalFit(problem, BiexpTruth(), Options(false)).final_cost;
 
   // One poor start: amplitudes wrong in sign and size, the slow rate 2x too fast.
   Eigen::VectorXd start(5);
@@ -263,11 +260,7 @@ TEST_CASE("RunLocalFit: projection needs fewer iterations on a biexponential fro
 
 TEST_CASE("RunLocalFit: a projected valley at infinity falls back to plain LM", "[engine]") {
   BiexpDecayModel model;
-  Eigen::VectorXd truth(5);
-  truth << 3, 0.5, 1.5, 4.0, 0.2;
-  Problem problem;
-  problem.model = &model;
-  problem.data = MakeData(model, truth, 0, 20, 200, 0.01, 21);
+  const Problem problem = BiexpProblem(model, 200, 0.01, 21);
   // From these rates the reduced problem drifts to tau2 -> infinity, where
   // amplitude2*exp(-x/tau2) and the baseline cancel (both coefficients ~1e7).
   Eigen::VectorXd start(5);
@@ -279,32 +272,22 @@ TEST_CASE("RunLocalFit: a projected valley at infinity falls back to plain LM", 
   CHECK(std::abs(summary.parameters[1] - 0.5) < 0.05);
 }
 
-std::vector<certification::NistProblem> LoadProblems() {
-  std::vector<certification::NistProblem> problems;
-  std::string error;
-  REQUIRE(certification::LoadNistProblems(FOOTHOLD_NIST_DIR, &problems, &error));
-  return problems;
-}
-
 // NIST StRD nonlinear regression (tests/data/nist-strd, certified values in index.json):
 // every problem whose expression has linear parameters, from Start 1 and Start 2.
 TEST_CASE("RunLocalFit: NIST StRD problems with linear parameters reach the certified values",
           "[engine]") {
   int num_checked = 0;
   int num_fallbacks = 0;
-  for (const certification::NistProblem& nist : LoadProblems()) {
+  for (const certification::NistProblem& nist : certification::NistProblems()) {
     std::string error;
-    std::unique_ptr<Model> model(ParseExpressionModel(
-        nist.model, nist.predictors, nist.ParameterNames(), ExpressionOptions(), &error));
-    REQUIRE(model);
-    if (model->LinearParameters().empty()) continue;
-    Problem problem;
-    problem.model = model.get();
-    REQUIRE(certification::BuildNistDataset(nist, &problem.data, &error));
+    certification::NistFit fit;
+    const bool is_set_up = certification::SetUpNistFit(nist, &fit, &error);
+    INFO(nist.name << ": " << error);
+    REQUIRE(is_set_up);
+    if (fit.model->LinearParameters().empty()) continue;
     for (int which = 1; which <= 2; ++which) {
-      const std::vector<double>& s = which == 1 ? nist.start1 : nist.start2;
-      const Eigen::VectorXd start = Eigen::Map<const Eigen::VectorXd>(s.data(), s.size());
-      const LocalFitSummary summary = RunLocalFit(problem, start, Options(true));
+      const LocalFitSummary summary =
+          RunLocalFit(fit.problem, certification::NistStart(nist, which), Options(true));
       INFO(nist.name << " from Start " << which << ": " << summary.message);
       // MGH10 from Start 1 drifts to exp(b2/(x+b3)) ~ 1e-185 against b1 ~ 1e189: the
       // degenerate-valley guard hands it to plain LM.
@@ -315,7 +298,7 @@ TEST_CASE("RunLocalFit: NIST StRD problems with linear parameters reach the cert
           certification::MinLreModuloSymmetry(nist.name, summary.parameters, nist.certified);
       std::cout << nist.name << " start " << which << ": min LRE " << min_lre << ", "
                 << summary.num_iterations << " iterations\n";
-      CHECK(min_lre >= kCertifiedDigits);
+      CHECK(min_lre >= certification::kCertifiedDigits);
       ++num_checked;
     }
   }
