@@ -2,26 +2,8 @@
 // (Its own executable: replacing the global operator new affects the whole program.)
 #include <catch2/catch.hpp>
 
-#include <atomic>
-#include <cstdlib>
-#include <new>
-
 #include "engine/model/expression_model.h"
-
-// Counts every global allocation. GCC flags free() on memory from a replaced operator new
-// once both are inlined; the pair is consistent (malloc/free), so that warning is silenced.
-#pragma GCC diagnostic ignored "-Wmismatched-new-delete"
-namespace {
-std::atomic<long> g_num_allocations{0};
-}  // namespace
-
-void* operator new(std::size_t size) {
-  ++g_num_allocations;
-  if (void* p = std::malloc(size == 0 ? 1 : size)) return p;
-  throw std::bad_alloc();
-}
-void operator delete(void* p) noexcept { std::free(p); }
-void operator delete(void* p, std::size_t) noexcept { std::free(p); }
+#include "tests/engine/allocation_counter.h"
 
 namespace foothold {
 namespace {
@@ -48,12 +30,12 @@ TEST_CASE("ExpressionModel: evaluation with an unchanged n allocates nothing", "
     // The first calls size the scratch.
     model->Evaluate(x, params.data(), values.data());
     model->EvaluateWithJacobian(x, params.data(), values.data(), jacobian.data());
-    const long before = g_num_allocations.load();
+    const long before = testing::NumAllocations();
     for (int repeat = 0; repeat < 10; ++repeat) {
       model->Evaluate(x, params.data(), values.data());
       model->EvaluateWithJacobian(x, params.data(), values.data(), jacobian.data());
     }
-    CHECK(g_num_allocations.load() == before);
+    CHECK(testing::NumAllocations() == before);
   }
 }
 

@@ -27,22 +27,7 @@
 #include "engine/model/families/oscillation_models.h"
 #include "engine/model/families/peak_models.h"
 #include "engine/model/families/polynomial_models.h"
-
-// Counts every global allocation so a test can assert that evaluation allocates nothing.
-// GCC flags free() on memory from a replaced operator new once both are inlined; the pair
-// is consistent (malloc/free), so that warning is silenced here.
-#pragma GCC diagnostic ignored "-Wmismatched-new-delete"
-namespace {
-std::atomic<long> g_num_allocations{0};
-}  // namespace
-
-void* operator new(std::size_t size) {
-  ++g_num_allocations;
-  if (void* p = std::malloc(size == 0 ? 1 : size)) return p;
-  throw std::bad_alloc();
-}
-void operator delete(void* p) noexcept { std::free(p); }
-void operator delete(void* p, std::size_t) noexcept { std::free(p); }
+#include "tests/engine/allocation_counter.h"
 
 namespace foothold {
 namespace {
@@ -261,10 +246,10 @@ TEST_CASE("FamilyModels: evaluation allocates nothing on the heap", "[engine]") 
     const std::vector<double>& p = c.parameter_sets.front();
     Eigen::VectorXd values(x.rows());
     Eigen::MatrixXd jacobian(x.rows(), model->NumParameters());
-    const long before = g_num_allocations.load();
+    const long before = testing::NumAllocations();
     model->Evaluate(x, p.data(), values.data());
     model->EvaluateWithJacobian(x, p.data(), values.data(), jacobian.data());
-    const long after = g_num_allocations.load();
+    const long after = testing::NumAllocations();
     INFO(c.name);
     CHECK(after == before);
   }
