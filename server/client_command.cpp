@@ -337,9 +337,7 @@ int NotFinished(const std::string& command, const Json& job, double seconds, std
   return kExitNotFinished;
 }
 
-}  // namespace
-
-int RunSubmit(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+int SubmitCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
   const std::string kCommand = "submit";
   ClientFlags flags;
   std::vector<std::string> rest;
@@ -399,7 +397,7 @@ int RunSubmit(const std::vector<std::string>& args, std::ostream& out, std::ostr
   return PrintResult(kCommand, job, command.json, out, err);
 }
 
-int RunStatus(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+int StatusCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
   const std::string kCommand = "status";
   ClientFlags flags;
   std::vector<std::string> rest;
@@ -425,7 +423,7 @@ int RunStatus(const std::vector<std::string>& args, std::ostream& out, std::ostr
   return out ? kExitOk : kExitOutputFailed;
 }
 
-int RunWait(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+int WaitCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
   const std::string kCommand = "wait";
   ClientFlags flags;
   std::vector<std::string> rest;
@@ -454,7 +452,7 @@ int RunWait(const std::vector<std::string>& args, std::ostream& out, std::ostrea
   return FinishedExit(job);
 }
 
-int RunResult(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+int ResultCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
   const std::string kCommand = "result";
   ClientFlags flags;
   std::vector<std::string> rest;
@@ -477,6 +475,36 @@ int RunResult(const std::vector<std::string>& args, std::ostream& out, std::ostr
   if (!FetchJob(kCommand, client.get(), id, &job, &exit_code, err)) return exit_code;
   if (!IsFinishedState(State(job))) return NotFinished(kCommand, job, -1, err);
   return PrintResult(kCommand, job, flags.json, out, err);
+}
+
+// A daemon of another version may answer with a document of another shape: a wrong type
+// is reported as such, never an abort.
+int Guarded(const char* command,
+            int (*run)(const std::vector<std::string>&, std::ostream&, std::ostream&),
+            const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  try {
+    return run(args, out, err);
+  } catch (const nlohmann::json::exception& error) {
+    return Fail(command, std::string("unexpected answer from the daemon: ") + error.what(), err);
+  }
+}
+
+}  // namespace
+
+int RunSubmit(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  return Guarded("submit", SubmitCommand, args, out, err);
+}
+
+int RunStatus(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  return Guarded("status", StatusCommand, args, out, err);
+}
+
+int RunWait(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  return Guarded("wait", WaitCommand, args, out, err);
+}
+
+int RunResult(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
+  return Guarded("result", ResultCommand, args, out, err);
 }
 
 }  // namespace foothold

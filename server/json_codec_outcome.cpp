@@ -164,9 +164,7 @@ void DecodeSearch(const Json& document, FitOutcome* out) {
   out->starts_converged = IntOr(search, "starts_converged");
 }
 
-}  // namespace
-
-bool DecodeFitOutcome(const Json& document, FitOutcome* out, std::string* error) {
+bool DecodeOutcome(const Json& document, FitOutcome* out, std::string* error) {
   if (!document.is_object()) {
     *error = "result: expected an object";
     return false;
@@ -200,6 +198,18 @@ bool DecodeFitOutcome(const Json& document, FitOutcome* out, std::string* error)
   }
   *out = std::move(outcome);
   return true;
+}
+
+}  // namespace
+
+bool DecodeFitOutcome(const Json& document, FitOutcome* out, std::string* error) {
+  // A key of an unexpected type (a document from another version) is an error, not an abort.
+  try {
+    return DecodeOutcome(document, out, error);
+  } catch (const Json::exception& exception) {
+    *error = std::string("result: ") + exception.what();
+    return false;
+  }
 }
 
 }  // namespace foothold
