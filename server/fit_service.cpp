@@ -348,23 +348,23 @@ bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_paramete
   Dataset all_columns;
   std::string sigma_column;
   if (!BuildDataset(request, &predictor_columns, &all_columns, &sigma_column, error)) return false;
+  // Resolving "auto" fits every candidate count; admission takes the widest model instead.
   ModelSpec spec = request.model;
+  const int auto_limit = std::min(kMaxAutoPeaks, (request.data.NumRows() - 4) / 3);
   if (spec.auto_peaks) {
-    // Resolving "auto" fits every candidate count; admission takes the widest model instead.
-    const int by_points = (request.data.NumRows() - 4) / 3;
-    if (by_points < 1) {
-      *error = "model.peaks = 'auto': " + std::to_string(request.data.NumRows()) +
-               " points are too few to compare even one peak by AICc (need >= 7)";
-      return false;
-    }
     spec.auto_peaks = false;
-    spec.peaks = std::min(kMaxAutoPeaks, by_points);
+    spec.peaks = std::max(1, auto_limit);
   }
   std::unique_ptr<Model> model;
   std::vector<FamilyParameter> family_parameters;
   FamilyRequest family_request;
   if (!BuildModel(predictor_columns, all_columns, &spec, &family_request, &model,
                   &family_parameters, error)) {
+    return false;
+  }
+  if (request.model.auto_peaks && auto_limit < 1) {
+    *error = "model.peaks = 'auto': " + std::to_string(request.data.NumRows()) +
+             " points are too few to compare even one peak by AICc (need >= 7)";
     return false;
   }
   Problem problem;
