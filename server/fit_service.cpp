@@ -247,6 +247,7 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
   prepared.guessed = std::move(choice.guessed);
   prepared.warnings = std::move(choice.warnings);
   prepared.candidates = std::move(choice.candidates);
+  prepared.box = std::move(choice.box);
   std::string problem_error;
   if (!problem.Validate(&problem_error)) {
     *error = "problem: " + problem_error;
@@ -530,7 +531,7 @@ void RunManyStarts(const FitRequest& request, const PreparedFit& prepared, const
   if (hooks.on_progress) options.progress = hooks.on_progress;
 
   const MultistartSummary summary =
-      RunMultistart(problem, prepared.candidates, SearchBox{}, options);
+      RunMultistart(problem, prepared.candidates, prepared.box, options);
   outcome->search_stop = ToString(summary.stop);
   outcome->search_message = summary.message;
   outcome->starts_planned = summary.num_starts_planned;

@@ -36,6 +36,7 @@ struct PreparedFit {
   std::vector<std::string> guessed;   // parameters whose start the guesser chose
   std::vector<std::string> warnings;  // notes for people (from the guesser)
   std::vector<StartCandidate> candidates;  // seeded starts for multistart, best first
+  SearchBox box;  // where the quasi-random starts look (server/fit_start.h)
 };
 
 // Every bad-input check lives here: false with a message naming the field (and the row

@@ -96,8 +96,8 @@ bool GuessCandidates(const FamilyRequest* family, const Problem& problem, GuessR
                      std::string* error) {
   const bool ok = family ? GuessFamily(*family, *problem.model, problem.data, problem.lower,
                                        problem.upper, GuessOptions{}, guess, error)
-                         : GuessGeneric(*problem.model, problem.data, problem.lower,
-                                        problem.upper, GuessOptions{}, guess, error);
+                         : GuessGeneric(*problem.model, problem.data, problem.lower, problem.upper,
+                                        GuessOptions{}, guess, error);
   if (ok && guess->candidates.empty()) *error = "no candidate";
   return ok && !guess->candidates.empty();
 }
@@ -118,6 +118,41 @@ void BuildCandidates(const Eigen::VectorXd& given, const GuessResult* guess, boo
 }
 
 }  // namespace
+
+SearchBox SearchBoxFromGuess(const Problem& problem, const std::vector<StartCandidate>& candidates,
+                             const Eigen::VectorXd& scale, const std::vector<bool>& log_scale) {
+  // Same spans as the engine's own rule (engine/multistart/internal/start_schedule.cpp).
+  constexpr double kPositiveSpan = 100.0;
+  constexpr double kHalfWidthFactor = 2.0;
+  const int p = problem.NumParameters();
+  SearchBox box;
+  box.lower = Eigen::VectorXd::Constant(p, -kInfinity);
+  box.upper = Eigen::VectorXd::Constant(p, kInfinity);
+  if (candidates.empty() || scale.size() != p) return box;
+  for (int j = 0; j < p; ++j) {
+    const double lower = problem.Lower(j), upper = problem.Upper(j);
+    const double s = scale[j];
+    if (problem.IsFixed(j) || (std::isfinite(lower) && std::isfinite(upper))) continue;
+    if (!(std::isfinite(s) && s > 0)) continue;
+    double low = kInfinity, high = -kInfinity, magnitude = 0;
+    for (const StartCandidate& candidate : candidates) {
+      const double v = std::min(upper, std::max(lower, candidate.parameters[j]));
+      low = std::min(low, v);
+      high = std::max(high, v);
+      magnitude = std::max(magnitude, std::abs(v));
+    }
+    const bool is_log = j < static_cast<int>(log_scale.size()) && log_scale[j];
+    if (is_log && std::isfinite(lower) && lower >= 0 && low > 0 && !std::isfinite(upper)) {
+      box.lower[j] = std::max(lower, std::min(low, s) / kPositiveSpan);
+      box.upper[j] = std::max(high, s) * kPositiveSpan;
+      continue;
+    }
+    const double half_width = kHalfWidthFactor * std::max(magnitude, s);
+    if (!std::isfinite(lower)) box.lower[j] = low - half_width;
+    if (!std::isfinite(upper)) box.upper[j] = high + half_width;
+  }
+  return box;
+}
 
 bool ChooseStart(const FitRequest& request, const FamilyRequest* family,
                  const std::vector<FamilyParameter>& defaults, Problem* problem, StartChoice* out,
@@ -155,7 +190,10 @@ bool ChooseStart(const FitRequest& request, const FamilyRequest* family,
   choice.start = choice.candidates.front().parameters;
   choice.origin = choice.candidates.front().origin;
   for (int j : missing) choice.guessed.push_back(names[j]);
-  if (has_guess) choice.warnings = guess.warnings;
+  if (has_guess) {
+    choice.warnings = guess.warnings;
+    choice.box = SearchBoxFromGuess(*problem, choice.candidates, guess.scale, guess.log_scale);
+  }
   for (int j = 0; j < static_cast<int>(names.size()); ++j) {
     const bool guessed = ParameterIndex(choice.guessed, names[j]) >= 0;
     const std::string field = guessed                ? "the guessed start of " + names[j]

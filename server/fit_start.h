@@ -23,7 +23,20 @@ struct StartChoice {
   // Every seeded start for multistart, best first: "user" (when the request gives every
   // free parameter), then each guess candidate with the request's values in place.
   std::vector<StartCandidate> candidates;
+  // Where the quasi-random starts look (engine/multistart): from the guesser's scales and
+  // the candidates, so that candidates gone wrong do not shrink it away from the optimum.
+  // Empty when there is no guess (then the engine derives it from the candidates alone).
+  SearchBox box;
 };
+
+// The search box of a fit from the guesser's result: for each free parameter with an
+// infinite bound, the candidates' range [v_min, v_max] (clamped into the bounds) widened
+// by 2 max(M, s) on every open side, M = max |v| and s the guesser's typical magnitude;
+// a parameter the guesser samples on a log scale (positive, lower bound >= 0, no upper
+// bound) gets [min(v_min, s) / 100, max(v_max, s) * 100] instead. Finite bounds are left to
+// the engine (infinite entries). docs/multistart.md, "Adversarial corpus", says why.
+SearchBox SearchBoxFromGuess(const Problem& problem, const std::vector<StartCandidate>& candidates,
+                             const Eigen::VectorXd& scale, const std::vector<bool>& log_scale);
 
 // Fills problem->lower/upper/is_fixed and chooses the start. `family` is null for an
 // expression model (then the generic guesser supplies candidates);
