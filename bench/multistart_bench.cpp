@@ -12,9 +12,11 @@
 //   foothold_multistart_bench --profile [--threads N] ...   one driver run (for callgrind)
 
 #include <sys/resource.h>
+#include <unistd.h>
 
 #include <algorithm>
 #include <atomic>
+#include <cmath>
 #include <cstdio>
 #include <cstdlib>
 #include <memory>
@@ -39,9 +41,27 @@ double ProcessCpuSeconds() {
          1e-6 * (usage.ru_utime.tv_usec + usage.ru_stime.tv_usec);
 }
 
+// Busy processor seconds of the whole machine so far (/proc/stat: every state but idle and
+// iowait), or NaN.
+double MachineBusySeconds() {
+  std::FILE* file = std::fopen("/proc/stat", "r");
+  if (!file) return std::nan("");
+  unsigned long long user, nice, system, idle, iowait, irq, softirq, steal;
+  const int read = std::fscanf(file, "cpu %llu %llu %llu %llu %llu %llu %llu %llu", &user, &nice,
+                               &system, &idle, &iowait, &irq, &softirq, &steal);
+  std::fclose(file);
+  if (read != 8) return std::nan("");
+  return static_cast<double>(user + nice + system + irq + softirq + steal) /
+         static_cast<double>(sysconf(_SC_CLK_TCK));
+}
+
+// A pair is quiet when other processes used less than this many cores during both runs.
+constexpr double kQuietCores = 0.1;
+
 struct Run {
   double wall = 0;
   double cpu = 0;
+  double others = 0;  // cores used by other processes, averaged over the run
   int starts = 0;
   double best_rss = 0;
   double fit_seconds = 0;      // sum of the start log's per-fit wall times
@@ -102,6 +122,7 @@ Run RunIndependent(const Problem& problem, const std::vector<Eigen::VectorXd>& s
     }
   };
   const double wall = bench::WallSeconds(), cpu = ProcessCpuSeconds();
+  const double busy = MachineBusySeconds();
   std::vector<std::thread> helpers;
   for (int t = 1; t < threads; ++t) helpers.emplace_back(work);
   work();
@@ -109,6 +130,7 @@ Run RunIndependent(const Problem& problem, const std::vector<Eigen::VectorXd>& s
   Run result;
   result.wall = bench::WallSeconds() - wall;
   result.cpu = ProcessCpuSeconds() - cpu;
+  result.others = (MachineBusySeconds() - busy - result.cpu) / result.wall;
   result.starts = static_cast<int>(starts.size());
   return result;
 }
@@ -153,10 +175,12 @@ int main(int argc, char** argv) {
     options.use_stopping_rule = false;
     options.round_size = args.round_size;
     const double wall = bench::WallSeconds(), cpu = ProcessCpuSeconds();
+    const double busy = MachineBusySeconds();
     const MultistartSummary summary = RunMultistart(problem, candidates, SearchBox{}, options);
     Run result;
     result.wall = bench::WallSeconds() - wall;
     result.cpu = ProcessCpuSeconds() - cpu;
+    result.others = (MachineBusySeconds() - busy - result.cpu) / result.wall;
     result.starts = summary.num_starts_run;
     result.best_rss = summary.basins.empty() ? -1 : summary.basins.front().rss;
     start_points.clear();
@@ -180,9 +204,9 @@ int main(int argc, char** argv) {
   std::printf(
       "| pair | 1 thread s | 2 threads s | throughput ratio | cpu/wall 1 thread | "
       "cpu/wall 2 threads | cpu 1 / cpu 2 | independent ratio | independent cpu 1 / cpu 2 | "
-      "load |\n|---|---|---|---|---|---|---|---|---|---|\n");
+      "others' cores 1 / 2 threads | load |\n|---|---|---|---|---|---|---|---|---|---|---|\n");
   std::vector<double> ratios, one, two, usage, usage_one, cpu_ratio, free_ratios, free_cpu;
-  std::vector<double> driver_share;
+  std::vector<double> driver_share, quiet_ratios;
   for (int pair = 0; pair < args.pairs; ++pair) {
     Run a, b;
     if (pair % 2 == 0) {
@@ -215,9 +239,12 @@ int main(int argc, char** argv) {
     free_ratios.push_back(c.wall / d.wall);
     free_cpu.push_back(c.cpu / d.cpu);
     driver_share.push_back(1 - a.fit_seconds / a.wall);
-    std::printf("| %d | %.3f | %.3f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f | %.1f |\n", pair,
-                a.wall, b.wall, ratio, a.cpu / a.wall, b.cpu / b.wall, a.cpu / b.cpu,
-                c.wall / d.wall, c.cpu / d.cpu, bench::LoadAverage());
+    // Quiet: other processes used less than kQuietCores on average during both runs.
+    if (a.others < kQuietCores && b.others < kQuietCores) quiet_ratios.push_back(ratio);
+    std::printf(
+        "| %d | %.3f | %.3f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f | %.2f / %.2f | %.1f |\n",
+        pair, a.wall, b.wall, ratio, a.cpu / a.wall, b.cpu / b.wall, a.cpu / b.cpu, c.wall / d.wall,
+        c.cpu / d.cpu, a.others, b.others, bench::LoadAverage());
   }
   std::printf("starts per second: 1 thread %.0f, 2 threads %.0f; best rss %.12g\n",
               args.num_starts / bench::Median(one), args.num_starts / bench::Median(two),
@@ -236,5 +263,7 @@ int main(int argc, char** argv) {
       "multistart driver_share_1thread %.3f independent_ratio %.3f "
       "independent_cpu1_over_cpu2 %.3f\n",
       bench::Median(driver_share), bench::Median(free_ratios), bench::Median(free_cpu));
+  std::printf("multistart quiet_pairs %zu of %d, median ratio of quiet pairs %.3f\n",
+              quiet_ratios.size(), args.pairs, bench::Median(quiet_ratios));
   return 0;
 }
