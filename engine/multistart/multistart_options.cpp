@@ -43,12 +43,21 @@ int MultistartOptions::ResolvedMaxStarts(int num_free) const {
                   std::max(kMinDefaultStarts, kStartsPerFreeParameter * num_free));
 }
 
+int MultistartOptions::ExtendedMaxStarts(int num_free) const {
+  const int base = ResolvedMaxStarts(num_free);
+  if (max_starts > 0 || budget_extension_factor <= 1) return base;
+  return std::max(base, std::min(kMaxDefaultStarts, budget_extension_factor * base));
+}
+
 bool MultistartOptions::Validate(std::string* error) const {
   std::ostringstream message;
   std::string nested;
   if (max_starts < 0 || max_starts > kMaxStartsLimit) {
     message << "max_starts = " << max_starts << ": must be in [0, " << kMaxStartsLimit
             << "] (0 means the default)";
+  } else if (budget_extension_factor < 1 || budget_extension_factor > 64) {
+    message << "budget_extension_factor = " << budget_extension_factor
+            << ": must be in [1, 64] (1 turns the extension off)";
   } else if (num_threads < 1 || num_threads > kMaxThreads) {
     message << "num_threads = " << num_threads << ": must be in [1, " << kMaxThreads << "]";
   } else if (round_size < 1 || round_size > kMaxRoundSize) {

@@ -59,6 +59,12 @@ struct MultistartOptions {
   // parameters. Every seeded candidate runs even when there are more candidates than this.
   // Must be in [0, 100000].
   int max_starts = 0;
+  // Extension of the default budget (max_starts == 0 only): when the default budget has
+  // run and the best basin was first reached in the second half of the starts so far (the
+  // search is still finding better optima), rounds continue, up to budget_extension_factor
+  // times the default budget (at most 256), until the best basin has stood for as many
+  // starts as it took to find it. Off with factor 1. Default 4. In [1, 64].
+  int budget_extension_factor = 4;
   // Seed of every random stream (Sobol digital shift, jitter). Default 7.
   std::uint64_t seed = 7;
   // Worker threads, the calling thread included; at most 2 * round_size are used (two
@@ -121,6 +127,9 @@ struct MultistartOptions {
 
   // The number of starts max_starts resolves to for `num_free` free parameters.
   int ResolvedMaxStarts(int num_free) const;
+  // The most starts an extended default budget may reach (ResolvedMaxStarts when
+  // max_starts is given or the factor is 1).
+  int ExtendedMaxStarts(int num_free) const;
   // Names the field, its value and the rule on the first violation.
   bool Validate(std::string* error) const;
 

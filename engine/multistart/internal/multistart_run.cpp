@@ -295,6 +295,14 @@ StoppingRuleEstimate MultistartRun::EstimateFromSobolStarts() const {
   return EstimateUnseenMinima(n, static_cast<int>(basins.size()));
 }
 
+int MultistartRun::FirstStartOfBestBasin() const {
+  int first = -1;
+  for (const StartRecord& record : summary_.starts) {
+    if (record.basin == 0 && (first < 0 || record.index < first)) first = record.index;
+  }
+  return first;
+}
+
 void MultistartRun::FillVerdict() {
   summary_.best_gap_chi2 = kNaN;
   const bool absolute = problem_.data.HasSigma() && problem_.sigma_mode == SigmaMode::kAbsolute;
@@ -324,7 +332,11 @@ MultistartSummary MultistartRun::Execute() {
   summary_.num_threads = pool_.NumWorkers();
   summary_.round_size = options_.round_size;
   summary_.num_candidates = num_candidates;
-  const int planned = std::max(options_.ResolvedMaxStarts(problem_.NumFree()), num_candidates);
+  // `budget` is the default (or given) budget; the run may extend it up to `ceiling` while
+  // the best basin is still new (MultistartOptions::budget_extension_factor).
+  const int budget = std::max(options_.ResolvedMaxStarts(problem_.NumFree()), num_candidates);
+  const int ceiling = std::max(options_.ExtendedMaxStarts(problem_.NumFree()), budget);
+  int planned = budget;
   summary_.num_starts_planned = planned;
   std::ostringstream message;
   summary_.stop = MultistartStop::kBudget;
@@ -357,6 +369,26 @@ MultistartSummary MultistartRun::Execute() {
     // Cancelled or past the deadline: the rounds in flight end quickly (their unstarted
     // starts are skipped) and what they completed is kept, as in a round cut short.
     if (saw_cancel_ || saw_deadline_) continue;
+    // Past the budget: continue only while the best basin was first reached in the second
+    // half of the starts absorbed so far; the round in flight is discarded on stopping.
+    if (absorbed_end >= budget && ceiling > budget) {
+      const int first = FirstStartOfBestBasin();
+      const bool is_new = first >= 0 && 2 * first >= absorbed_end && absorbed_end < ceiling;
+      if (!is_new) {
+        if (planned > budget) {
+          message << "best basin first reached by start " << first << ", settled after "
+                  << absorbed_end << " starts (budget " << budget << " extended)";
+        }
+        for (const auto& round : in_flight) Discard(round.get());
+        in_flight.clear();
+        break;
+      }
+      if (planned == budget) {
+        planned = ceiling;
+        std::lock_guard<std::mutex> lock(progress_mutex_);
+        summary_.num_starts_planned = planned;
+      }
+    }
     if (absorbed_end >= planned) break;
     // Boender & Rinnooy Kan (1987): only at round boundaries, after every candidate ran,
     // on the absorbed rounds only. The round in flight is discarded, whatever it holds.
@@ -382,8 +414,12 @@ MultistartSummary MultistartRun::Execute() {
     summary_.stop = MultistartStop::kDeadline;
     message << "elapsed seconds " << ElapsedSeconds() << " > deadline_seconds "
             << options_.deadline_seconds << " after " << num_run << " starts";
-  } else if (summary_.stop == MultistartStop::kBudget) {
-    message << "all " << planned << " planned starts ran";
+  } else if (summary_.stop == MultistartStop::kBudget && message.tellp() == 0) {
+    message << "all " << num_run << " planned starts ran";
+  }
+  // An extended budget that settled early reports the starts it ran as planned.
+  if (planned > budget && summary_.stop == MultistartStop::kBudget) {
+    summary_.num_starts_planned = num_run;
   }
   summary_.message = message.str();
 

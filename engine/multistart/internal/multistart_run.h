@@ -69,6 +69,8 @@ class MultistartRun {
   // Re-clusters every converged start and sets summary_.basins and the records' basin ids.
   void UpdateBasins();
   StoppingRuleEstimate EstimateFromSobolStarts() const;
+  // Index of the first start that reached the best basin (basin 0), -1 when none converged.
+  int FirstStartOfBestBasin() const;
   void FillVerdict();
 
   bool IsDiscarded(int round) const {
