@@ -382,7 +382,8 @@ DATA                     CSV with a header row naming the columns, or a .json fi
                          intervals; see docs/statistics.md)
 --starts N               local fits to run: 1 = one fit from the best start; default
                          automatic (max(16, 8 p) up to 256, stopped early by a
-                         Bayesian rule once no unseen optimum is expected)
+                         Bayesian rule once no unseen optimum is expected, extended
+                         up to 4x while better optima still appear late)
 --seed N                 seed of the quasi-random and jitter starts (default 7); the
                          same request and seed give the same result
 --threads N              worker threads (default: all cores); never changes the result

@@ -66,7 +66,8 @@ struct FitRequest {
   // Local method: lm (default), gauss_newton or bfgs.
   std::string method = "lm";
   // Number of local fits. 0 (the default) is the automatic budget, max(16, 8 p) capped at
-  // 256 for p free parameters, ended earlier by the stopping rule; 1 is a single local fit
+  // 256 for p free parameters, ended earlier by the stopping rule and extended (up to 4x,
+  // at most 256) while the best basin is still new (docs/multistart.md); 1 is a single local fit
   // from the best candidate (the user's start, else the best guess).
   int starts = 0;
   // Seed of the random streams; the same request and seed give the same result.
