@@ -112,11 +112,15 @@ TEST_CASE("Daemon: kill -9 mid-run loses no job and reruns give the clean result
     CHECK(result == clean[variant_of[id]]);
   }
 
-  // Exactly once: each job's finishing line appears once across both runs' logs.
+  // Exactly once: the store holds one result per job (checked above) and no job's finishing
+  // line appears twice across both runs' logs. A line can be missing: the log line follows
+  // the store's commit, so a kill between the two loses the line (never the result) — at
+  // most one per worker (2) that was finishing at that instant.
   std::ifstream log(store + ".log");
   std::stringstream text;
   text << log.rdbuf();
   const std::string all = text.str();
+  int num_missing_lines = 0;
   for (const auto& [id, variant] : variant_of) {
     size_t count = 0;
     for (size_t at = all.find("job " + id + " done"); at != std::string::npos;
@@ -124,8 +128,10 @@ TEST_CASE("Daemon: kill -9 mid-run loses no job and reruns give the clean result
       ++count;
     }
     INFO("job " << id);
-    CHECK(count == 1);
+    CHECK(count <= 1);
+    if (count == 0) ++num_missing_lines;
   }
+  CHECK(num_missing_lines <= 2);
 }
 
 }  // namespace foothold
