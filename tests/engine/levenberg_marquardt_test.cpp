@@ -6,72 +6,21 @@
 #include <functional>
 #include <limits>
 
+#include "tests/engine/test_models.h"
+
 namespace foothold {
 namespace {
 
-// A model written as two lambdas, for test problems that carry their own answers.
-class LambdaModel : public Model {
- public:
-  using ValueFn = std::function<double(double x, const double* p)>;
-  using GradFn = std::function<void(double x, const double* p, double* grad)>;
-  LambdaModel(std::vector<std::string> names, ValueFn value, GradFn grad)
-      : names_(std::move(names)), value_(std::move(value)), grad_(std::move(grad)) {}
-  int NumParameters() const override { return static_cast<int>(names_.size()); }
-  const std::vector<std::string>& ParameterNames() const override { return names_; }
-  const std::vector<std::string>& PredictorNames() const override { return predictors_; }
-  void Evaluate(const Eigen::MatrixXd& x, const double* p, double* values) const override {
-    for (Eigen::Index i = 0; i < x.rows(); ++i) values[i] = value_(x(i, 0), p);
-  }
-  void EvaluateWithJacobian(const Eigen::MatrixXd& x, const double* p, double* values,
-                            double* jacobian) const override {
-    const Eigen::Index n = x.rows();
-    std::vector<double> grad(names_.size());
-    for (Eigen::Index i = 0; i < n; ++i) {
-      values[i] = value_(x(i, 0), p);
-      grad_(x(i, 0), p, grad.data());
-      for (size_t j = 0; j < names_.size(); ++j) jacobian[j * n + i] = grad[j];
-    }
-  }
-  std::unique_ptr<Model> Clone() const override { return std::make_unique<LambdaModel>(*this); }
+// The shared point-by-point test model (tests/engine/test_models.h) under this file's
+// names; problems here sit on x = 0.1 i.
+using LambdaModel = testing::PointwiseModel;
+using testing::Vec;
 
- private:
-  std::vector<std::string> names_;
-  std::vector<std::string> predictors_{"x"};
-  ValueFn value_;
-  GradFn grad_;
-};
-
-LambdaModel ExpDecay() {
-  return LambdaModel(
-      {"amplitude", "rate"}, [](double x, const double* p) { return p[0] * std::exp(-p[1] * x); },
-      [](double x, const double* p, double* g) {
-        const double e = std::exp(-p[1] * x);
-        g[0] = e;
-        g[1] = -p[0] * x * e;
-      });
-}
+LambdaModel ExpDecay() { return testing::ExpDecayModel(); }
 
 Problem MakeProblem(const Model& model, const std::function<double(double)>& truth, int n,
                     double noise_amplitude) {
-  Problem problem;
-  problem.model = &model;
-  problem.data.predictor_names = {"x"};
-  problem.data.predictors.resize(n, 1);
-  problem.data.response.resize(n);
-  for (int i = 0; i < n; ++i) {
-    const double x = 0.1 * i;
-    problem.data.predictors(i, 0) = x;
-    // Deterministic, sign-alternating "noise" so the optimum is not exactly the truth.
-    problem.data.response[i] = truth(x) + noise_amplitude * ((i % 3) - 1.0);
-  }
-  return problem;
-}
-
-Eigen::VectorXd Vec(std::initializer_list<double> values) {
-  Eigen::VectorXd v(values.size());
-  int k = 0;
-  for (double value : values) v[k++] = value;
-  return v;
+  return testing::MakeProblem(model, truth, n, 0.0, 0.1, noise_amplitude);
 }
 
 constexpr double kTight = 1e-8;
