@@ -397,26 +397,46 @@ int SubmitCommand(const std::vector<std::string>& args, std::ostream& out, std::
   return PrintResult(kCommand, job, command.json, out, err);
 }
 
+// The front shared by status, wait and result: flags, --help, the job id and a client.
+// False when the command ends here, with *exit_code saying how.
+bool StartIdCommand(const std::string& command, const std::vector<std::string>& args,
+                    const std::set<std::string>& value_flags, const char* usage, ClientFlags* flags,
+                    std::string* id, std::unique_ptr<HttpClient>* client, std::ostream& out,
+                    std::ostream& err, int* exit_code) {
+  std::vector<std::string> rest;
+  std::string error;
+  if (!ExtractFlags(args, value_flags, {"--json", "--help", "-h"}, flags, &rest, &error)) {
+    *exit_code = Fail(command, error, err);
+    return false;
+  }
+  if (flags->help) {
+    out << usage;
+    *exit_code = kExitOk;
+    return false;
+  }
+  if (!TakeId(rest, id, &error)) {
+    *exit_code = Fail(command, error + " (see foothold " + command + " --help)", err);
+    return false;
+  }
+  *client = MakeClient(*flags, 0, &error);
+  if (!*client) {
+    *exit_code = Fail(command, error, err);
+    return false;
+  }
+  return true;
+}
+
 int StatusCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
   const std::string kCommand = "status";
   ClientFlags flags;
-  std::vector<std::string> rest;
-  std::string error;
   std::string id;
-  if (!ExtractFlags(args, {"--url", "--token-file"}, {"--json", "--help", "-h"}, &flags, &rest,
-                    &error)) {
-    return Fail(kCommand, error, err);
-  }
-  if (flags.help) {
-    out << kStatusUsage;
-    return kExitOk;
-  }
-  if (!TakeId(rest, &id, &error))
-    return Fail(kCommand, error + " (see foothold status --help)", err);
-  std::unique_ptr<HttpClient> client = MakeClient(flags, 0, &error);
-  if (!client) return Fail(kCommand, error, err);
-  Json job;
+  std::unique_ptr<HttpClient> client;
   int exit_code = kExitOk;
+  if (!StartIdCommand(kCommand, args, {"--url", "--token-file"}, kStatusUsage, &flags, &id, &client,
+                      out, err, &exit_code)) {
+    return exit_code;
+  }
+  Json job;
   if (!FetchJob(kCommand, client.get(), id, &job, &exit_code, err)) return exit_code;
   out << (flags.json ? job.dump(2) : StatusLine(job)) << '\n';
   out.flush();
@@ -426,22 +446,14 @@ int StatusCommand(const std::vector<std::string>& args, std::ostream& out, std::
 int WaitCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
   const std::string kCommand = "wait";
   ClientFlags flags;
-  std::vector<std::string> rest;
-  std::string error;
   std::string id;
-  if (!ExtractFlags(args, {"--url", "--token-file", "--timeout"}, {"--json", "--help", "-h"},
-                    &flags, &rest, &error)) {
-    return Fail(kCommand, error, err);
-  }
-  if (flags.help) {
-    out << kWaitUsage;
-    return kExitOk;
-  }
-  if (!TakeId(rest, &id, &error)) return Fail(kCommand, error + " (see foothold wait --help)", err);
-  std::unique_ptr<HttpClient> client = MakeClient(flags, 0, &error);
-  if (!client) return Fail(kCommand, error, err);
-  Json job;
+  std::unique_ptr<HttpClient> client;
   int exit_code = kExitOk;
+  if (!StartIdCommand(kCommand, args, {"--url", "--token-file", "--timeout"}, kWaitUsage, &flags,
+                      &id, &client, out, err, &exit_code)) {
+    return exit_code;
+  }
+  Json job;
   if (!PollJob(kCommand, client.get(), id, flags.timeout_seconds, &job, &exit_code, err)) {
     return exit_code;
   }
@@ -455,23 +467,14 @@ int WaitCommand(const std::vector<std::string>& args, std::ostream& out, std::os
 int ResultCommand(const std::vector<std::string>& args, std::ostream& out, std::ostream& err) {
   const std::string kCommand = "result";
   ClientFlags flags;
-  std::vector<std::string> rest;
-  std::string error;
   std::string id;
-  if (!ExtractFlags(args, {"--url", "--token-file"}, {"--json", "--help", "-h"}, &flags, &rest,
-                    &error)) {
-    return Fail(kCommand, error, err);
-  }
-  if (flags.help) {
-    out << kResultUsage;
-    return kExitOk;
-  }
-  if (!TakeId(rest, &id, &error))
-    return Fail(kCommand, error + " (see foothold result --help)", err);
-  std::unique_ptr<HttpClient> client = MakeClient(flags, 0, &error);
-  if (!client) return Fail(kCommand, error, err);
-  Json job;
+  std::unique_ptr<HttpClient> client;
   int exit_code = kExitOk;
+  if (!StartIdCommand(kCommand, args, {"--url", "--token-file"}, kResultUsage, &flags, &id, &client,
+                      out, err, &exit_code)) {
+    return exit_code;
+  }
+  Json job;
   if (!FetchJob(kCommand, client.get(), id, &job, &exit_code, err)) return exit_code;
   if (!IsFinishedState(State(job))) return NotFinished(kCommand, job, -1, err);
   return PrintResult(kCommand, job, flags.json, out, err);
