@@ -213,6 +213,25 @@ bool BuildDataset(const FitRequest& request, std::vector<std::string>* predictor
   return true;
 }
 
+// The problem's own checks, then the request's solver limits set and checked in *options.
+bool CheckProblemAndSolver(const FitRequest& request, const Problem& problem,
+                           LevenbergMarquardtOptions* options, std::string* error) {
+  std::string problem_error;
+  if (!problem.Validate(&problem_error)) {
+    *error = "problem: " + problem_error;
+    return false;
+  }
+  options->max_iterations = request.max_iterations;
+  options->max_evaluations = request.max_evaluations;
+  options->deadline_seconds = request.deadline_seconds;
+  std::string options_error;
+  if (!options->Validate(&options_error)) {
+    *error = "solver options: " + options_error;
+    return false;
+  }
+  return true;
+}
+
 }  // namespace
 
 bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error) {
@@ -248,20 +267,7 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
   prepared.warnings = std::move(choice.warnings);
   prepared.candidates = std::move(choice.candidates);
   prepared.box = std::move(choice.box);
-  std::string problem_error;
-  if (!problem.Validate(&problem_error)) {
-    *error = "problem: " + problem_error;
-    return false;
-  }
-  LevenbergMarquardtOptions& options = prepared.solver_options;
-  options.max_iterations = request.max_iterations;
-  options.max_evaluations = request.max_evaluations;
-  options.deadline_seconds = request.deadline_seconds;
-  std::string options_error;
-  if (!options.Validate(&options_error)) {
-    *error = "solver options: " + options_error;
-    return false;
-  }
+  if (!CheckProblemAndSolver(request, problem, &prepared.solver_options, error)) return false;
   *out = std::move(prepared);
   return true;
 }
@@ -376,20 +382,8 @@ bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_paramete
     return false;
   }
   if (!CheckGivenValues(request, family_parameters, &problem, error)) return false;
-  std::string problem_error;
-  if (!problem.Validate(&problem_error)) {
-    *error = "problem: " + problem_error;
-    return false;
-  }
   LevenbergMarquardtOptions options;
-  options.max_iterations = request.max_iterations;
-  options.max_evaluations = request.max_evaluations;
-  options.deadline_seconds = request.deadline_seconds;
-  std::string options_error;
-  if (!options.Validate(&options_error)) {
-    *error = "solver options: " + options_error;
-    return false;
-  }
+  if (!CheckProblemAndSolver(request, problem, &options, error)) return false;
   *num_parameters = model->NumParameters();
   return true;
 }
