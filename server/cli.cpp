@@ -91,6 +91,13 @@ int RunFitCommand(const std::vector<std::string>& args, std::ostream& out, std::
     out << FitUsage();
     return kExitOk;
   }
+  if (!command.request.compare.empty()) {
+    // A request document may carry "compare" (a daemon job option); fit runs one model.
+    return BadInput(
+        "compare: fit runs one model; use foothold compare DATA --families ... or submit the "
+        "request to a daemon (foothold submit, POST /v1/fits)",
+        err);
+  }
   FitOutcome outcome;
   if (!RunFit(command.request, &outcome, &error)) return BadInput(error, err);
   if (command.json) {

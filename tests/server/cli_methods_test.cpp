@@ -95,6 +95,21 @@ double Value(const json& result, const std::string& name) {
   return result["best"]["parameters"][name]["value"].get<double>();
 }
 
+TEST_CASE("CliMethods: fit refuses a request document that asks for a comparison", "[server]") {
+  REQUIRE(fs::exists(kBinary));
+  const CliMethods cli;
+  const std::string path = (fs::path(cli.Line()).parent_path() / "compare.json").string();
+  {
+    std::ofstream request(path);
+    request << R"({"compare": ["line", "polynomial"], "data": {"x": [0, 1, 2, 3, 4, 5],
+                  "y": [1, 3.1, 4.9, 7.2, 9.0, 10.8]}})";
+  }
+  const Run run = cli.Fit("--request " + path);
+  CHECK(run.exit_code == 2);
+  CHECK(run.out.empty());
+  CHECK(run.err.find("foothold: compare: fit runs one model; use foothold compare") == 0);
+}
+
 }  // namespace
 
 TEST_CASE("CliMethods: every --loss reports its scale and the two outliers", "[server]") {
