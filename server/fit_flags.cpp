@@ -16,29 +16,11 @@ namespace {
 constexpr double kInfinity = std::numeric_limits<double>::infinity();
 
 const std::set<std::string>& ValueFlags() {
-  static const std::set<std::string> kFlags{"--family",
-                                            "--degree",
-                                            "--peaks",
-                                            "--expr",
-                                            "--params",
-                                            "--start",
-                                            "--fix",
-                                            "--bounds",
-                                            "--y",
-                                            "--sigma-column",
-                                            "--sigma",
-                                            "--request",
-                                            "--label",
-                                            "--loss",
-                                            "--loss-scale",
-                                            "--method",
-                                            "--intervals",
-                                            "--starts",
-                                            "--seed",
-                                            "--threads",
-                                            "--deadline",
-                                            "--max-iterations",
-                                            "--max-evaluations"};
+  static const std::set<std::string> kFlags{
+      "--family", "--degree",  "--peaks",      "--expr",           "--params",         "--start",
+      "--fix",    "--bounds",  "--y",          "--sigma-column",   "--sigma",          "--request",
+      "--label",  "--loss",    "--loss-scale", "--method",         "--intervals",      "--starts",
+      "--seed",   "--threads", "--deadline",   "--max-iterations", "--max-evaluations"};
   return kFlags;
 }
 
@@ -235,18 +217,18 @@ bool ApplyFlag(const std::string& flag, const std::string& value, FitRequest* re
     request->label = value;
     return true;
   }
-  if (flag == "--loss") {
-    request->loss = value;
+  // Named choices are checked here too, so the message names the flag.
+  auto choose = [&](const auto& options, std::string* field) {
+    if (!IsOneOf(value, options)) {
+      *error = flag + ": '" + value + "': expected one of " + JoinOptions(options);
+      return false;
+    }
+    *field = value;
     return true;
-  }
-  if (flag == "--method") {
-    request->method = value;
-    return true;
-  }
-  if (flag == "--intervals") {
-    request->intervals = value;  // FitRequest::Validate names the accepted values
-    return true;
-  }
+  };
+  if (flag == "--loss") return choose(kKnownLosses, &request->loss);
+  if (flag == "--method") return choose(kKnownMethods, &request->method);
+  if (flag == "--intervals") return choose(kKnownIntervals, &request->intervals);
   if (flag == "--loss-scale") return ParseNumber(flag, value, &request->loss_scale, error);
   if (flag == "--deadline") return ParseNumber(flag, value, &request->deadline_seconds, error);
   if (flag == "--starts") return ParseSmallInt(flag, value, 1, &request->starts, error);

@@ -13,24 +13,6 @@ std::string FormatNumber(double value) {
   return out.str();
 }
 
-template <size_t N>
-bool IsOneOf(const std::string& value, const char* const (&options)[N]) {
-  for (const char* option : options) {
-    if (value == option) return true;
-  }
-  return false;
-}
-
-template <size_t N>
-std::string JoinOptions(const char* const (&options)[N]) {
-  std::string joined;
-  for (const char* option : options) {
-    if (!joined.empty()) joined += ", ";
-    joined += option;
-  }
-  return joined;
-}
-
 bool ValidateModel(const ModelSpec& model, std::string* error) {
   if (model.IsFamily() == !model.expression.empty()) {
     *error = model.IsFamily() ? "model: give either family or expression, not both"
@@ -125,8 +107,8 @@ bool ValidateMethodChoices(const FitRequest& request, std::string* error) {
     return false;
   }
   if (!IsOneOf(request.intervals, kKnownIntervals)) {
-    *error = "intervals = '" + request.intervals + "': expected one of " +
-             JoinOptions(kKnownIntervals);
+    *error =
+        "intervals = '" + request.intervals + "': expected one of " + JoinOptions(kKnownIntervals);
     return false;
   }
   if (request.sigma_mode != "" && request.sigma_mode != "absolute" &&

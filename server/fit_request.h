@@ -2,6 +2,7 @@
 // A fit request as plain C++ values: the request document of DESIGN.md §3b after decoding,
 // and what the CLI flags build. No JSON here; json_codec.h converts.
 
+#include <cstddef>
 #include <cstdint>
 #include <limits>
 #include <optional>
@@ -39,6 +40,25 @@ struct NamedBounds {
 constexpr const char* kKnownLosses[] = {"squared", "soft_l1", "huber", "cauchy", "tukey", "l1"};
 constexpr const char* kKnownMethods[] = {"lm", "gauss_newton", "bfgs"};
 constexpr const char* kKnownIntervals[] = {"wald", "profile"};
+
+// Whether `value` is one of `options` (kKnownLosses, ...), and the options as "a, b, c".
+template <size_t N>
+bool IsOneOf(const std::string& value, const char* const (&options)[N]) {
+  for (const char* option : options) {
+    if (value == option) return true;
+  }
+  return false;
+}
+
+template <size_t N>
+std::string JoinOptions(const char* const (&options)[N]) {
+  std::string joined;
+  for (const char* option : options) {
+    if (!joined.empty()) joined += ", ";
+    joined += option;
+  }
+  return joined;
+}
 
 // Upper limits a request may ask for (the daemon may set lower ones).
 constexpr int kMaxStarts = 100000;

@@ -169,7 +169,7 @@ TEST_CASE("Cli: unknown flags, missing values and unknown commands exit 2", "[se
   std::vector<std::string> later = kGaussianStart;
   later.insert(later.end(), {"--loss", "quartic"});
   CheckBadInput(Run(FitArgs(data, later)),
-                "loss = 'quartic': expected one of squared, soft_l1, huber, cauchy, tukey, l1");
+                "--loss: 'quartic': expected one of squared, soft_l1, huber, cauchy, tukey, l1");
 }
 
 TEST_CASE("Cli: a request document with a bad field exits 2 naming it", "[server]") {

@@ -179,9 +179,9 @@ TEST_CASE("CliMethods: bad --loss, --loss-scale and --method exit 2 naming the o
   const CliMethods cli;
   const std::pair<std::string, std::string> cases[] = {
       {"--loss bogus",
-       "loss = 'bogus': expected one of squared, soft_l1, huber, cauchy, tukey, l1"},
+       "--loss: 'bogus': expected one of squared, soft_l1, huber, cauchy, tukey, l1"},
       {"--loss", "--loss: missing value"},
-      {"--method newton", "method = 'newton': expected one of lm, gauss_newton, bfgs"},
+      {"--method newton", "--method: 'newton': expected one of lm, gauss_newton, bfgs"},
       {"--method", "--method: missing value"},
       {"--loss huber --loss-scale abc", "--loss-scale: 'abc' is not a number"},
       {"--loss huber --loss-scale inf", "--loss-scale: 'inf' is not a finite number"},
