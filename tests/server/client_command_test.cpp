@@ -14,11 +14,13 @@
 
 #include "server/cli.h"
 #include "tests/server/http_test_client.h"
+#include "tests/server/result_compare.h"
 
 namespace foothold {
 namespace {
 
 using nlohmann::json;
+using testing::StripTimings;
 
 struct CliRun {
   int code = -1;
@@ -65,24 +67,6 @@ std::string WriteGaussianCsv(const std::string& name) {
     csv << x << ',' << y << '\n';
   }
   return path;
-}
-
-void StripTimings(json* value) {
-  if (value->is_object()) {
-    for (auto it = value->begin(); it != value->end();) {
-      const std::string& key = it.key();
-      const bool timing = key == "seconds" || key == "elapsed_ms" ||
-                          (key.size() > 8 && key.substr(key.size() - 8) == "_seconds");
-      if (timing) {
-        it = value->erase(it);
-      } else {
-        StripTimings(&it.value());
-        ++it;
-      }
-    }
-  } else if (value->is_array()) {
-    for (json& item : *value) StripTimings(&item);
-  }
 }
 
 std::string Replace(std::string text, const std::string& from, const std::string& to) {

@@ -12,6 +12,7 @@
 #include <string>
 
 #include "tests/server/http_test_client.h"
+#include "tests/server/result_compare.h"
 
 namespace foothold {
 namespace {
@@ -64,16 +65,8 @@ json WaitDone(int port, const std::string& id) {
 }
 
 std::string RunCompareCli(const std::string& arguments) {
-  const std::string command =
-      std::string(FOOTHOLD_BINARY_DIR) + "/server/foothold compare " + arguments;
-  FILE* pipe = popen(command.c_str(), "r");
-  REQUIRE(pipe);
-  std::string output;
-  char buffer[4096];
-  size_t got;
-  while ((got = fread(buffer, 1, sizeof(buffer), pipe)) > 0) output.append(buffer, got);
-  pclose(pipe);
-  return output;
+  return testing::CaptureOutput(std::string(FOOTHOLD_BINARY_DIR) + "/server/foothold compare " +
+                                arguments);
 }
 
 }  // namespace

@@ -8,12 +8,14 @@
 #include <string>
 
 #include "tests/server/http_test_client.h"
+#include "tests/server/result_compare.h"
 
 namespace foothold {
 namespace {
 
 using nlohmann::json;
 using testing::Request;
+using testing::StripTimings;
 
 constexpr const char* kLineFit =
     R"({"label": "api-line", "model": {"family": "line"}, "seed": 3,
@@ -27,36 +29,10 @@ testing::Daemon& SharedDaemon() {
 }
 
 // Timings differ between runs; everything else must agree.
-void StripTimings(json* value) {
-  if (value->is_object()) {
-    for (auto it = value->begin(); it != value->end();) {
-      const std::string& key = it.key();
-      const bool timing = key == "seconds" || key == "elapsed_ms" ||
-                          (key.size() > 8 && key.substr(key.size() - 8) == "_seconds") ||
-                          (key.size() > 3 && key.substr(key.size() - 3) == "_ms");
-      if (timing) {
-        it = value->erase(it);
-      } else {
-        StripTimings(&it.value());
-        ++it;
-      }
-    }
-  } else if (value->is_array()) {
-    for (json& item : *value) StripTimings(&item);
-  }
-}
 
 std::string RunCliJson(const std::string& request_path) {
-  const std::string command = std::string(FOOTHOLD_BINARY_DIR) + "/server/foothold fit --request " +
-                              request_path + " --json";
-  FILE* pipe = popen(command.c_str(), "r");
-  REQUIRE(pipe);
-  std::string output;
-  char buffer[4096];
-  size_t got;
-  while ((got = fread(buffer, 1, sizeof(buffer), pipe)) > 0) output.append(buffer, got);
-  pclose(pipe);
-  return output;
+  return testing::CaptureOutput(std::string(FOOTHOLD_BINARY_DIR) +
+                                "/server/foothold fit --request " + request_path + " --json");
 }
 
 }  // namespace

@@ -9,12 +9,14 @@
 #include <string>
 
 #include "tests/server/http_test_client.h"
+#include "tests/server/result_compare.h"
 
 namespace foothold {
 namespace {
 
 using nlohmann::json;
 using testing::Request;
+using testing::StripTimings;
 
 constexpr int kNumJobs = 200;
 constexpr int kNumVariants = 4;
@@ -30,23 +32,6 @@ std::string Variant(int variant) {
   }
   return R"({"label": "v)" + std::to_string(variant) +
          R"(", "model": {"family": "exp_decay"}, "data": {"x": [)" + x + "], \"y\": [" + y + "]}}";
-}
-
-void StripTimings(json* value) {
-  if (value->is_object()) {
-    for (auto it = value->begin(); it != value->end();) {
-      const std::string& key = it.key();
-      if (key == "seconds" || key == "elapsed_ms" ||
-          (key.size() > 8 && key.substr(key.size() - 8) == "_seconds")) {
-        it = value->erase(it);
-      } else {
-        StripTimings(&it.value());
-        ++it;
-      }
-    }
-  } else if (value->is_array()) {
-    for (json& item : *value) StripTimings(&item);
-  }
 }
 
 }  // namespace
