@@ -30,6 +30,7 @@
 #include "engine/multistart/multistart.h"
 #include "engine/solve/local_fit.h"
 #include "heuristics/guess.h"
+#include "heuristics/search_box.h"
 
 namespace {
 
@@ -71,45 +72,6 @@ bool BuildProblem(const corpus::CorpusCase& c, FamilyInstance* instance, Problem
     problem->upper[j] = instance->parameters[j].default_upper;
   }
   return problem->Validate(error);
-}
-
-// The quasi-random search box `foothold fit` derives from the guess, as
-// SearchBoxFromGuess in server/fit_start.cpp does (replicated: the bench links no server
-// code): bounded parameters keep their bounds; a positive, log-scaled parameter with only a
-// lower bound spans [min(low, scale) / 100, max(high, scale) * 100]; any other open side
-// reaches 2 max(|candidate|, scale) beyond the candidates.
-SearchBox BoxFromGuess(const Problem& problem, const std::vector<StartCandidate>& candidates,
-                       const GuessResult& guess) {
-  constexpr double kPositiveSpan = 100.0;
-  constexpr double kHalfWidthFactor = 2.0;
-  constexpr double kInfinity = std::numeric_limits<double>::infinity();
-  const int p = problem.NumParameters();
-  SearchBox box;
-  box.lower = Eigen::VectorXd::Constant(p, -kInfinity);
-  box.upper = Eigen::VectorXd::Constant(p, kInfinity);
-  if (candidates.empty() || guess.scale.size() != p) return box;
-  for (int j = 0; j < p; ++j) {
-    const double lower = problem.Lower(j), upper = problem.Upper(j), s = guess.scale[j];
-    if (problem.IsFixed(j) || (std::isfinite(lower) && std::isfinite(upper))) continue;
-    if (!(std::isfinite(s) && s > 0)) continue;
-    double low = kInfinity, high = -kInfinity, magnitude = 0;
-    for (const StartCandidate& candidate : candidates) {
-      const double v = std::min(upper, std::max(lower, candidate.parameters[j]));
-      low = std::min(low, v);
-      high = std::max(high, v);
-      magnitude = std::max(magnitude, std::abs(v));
-    }
-    const bool is_log = j < static_cast<int>(guess.log_scale.size()) && guess.log_scale[j];
-    if (is_log && std::isfinite(lower) && lower >= 0 && low > 0 && !std::isfinite(upper)) {
-      box.lower[j] = std::max(lower, std::min(low, s) / kPositiveSpan);
-      box.upper[j] = std::max(high, s) * kPositiveSpan;
-      continue;
-    }
-    const double half_width = kHalfWidthFactor * std::max(magnitude, s);
-    if (!std::isfinite(lower)) box.lower[j] = low - half_width;
-    if (!std::isfinite(upper)) box.upper[j] = high + half_width;
-  }
-  return box;
 }
 
 // The options RunManyStarts (server/fit_service.cpp) passes for a default request.
@@ -163,7 +125,8 @@ bool TimeFamily(const corpus::CorpusCase& c, int repetitions, int multistart_rep
   MultistartSummary summary;
   for (int r = 0; r < multistart_repetitions; ++r) {
     const std::clock_t start = std::clock();
-    summary = RunMultistart(problem, candidates, BoxFromGuess(problem, candidates, guess),
+    summary = RunMultistart(problem, candidates,
+                            SearchBoxFromGuess(problem, candidates, guess.scale, guess.log_scale),
                             DefaultMultistartOptions());
     multistart_seconds.push_back(Seconds(start, std::clock()));
   }

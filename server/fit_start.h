@@ -10,6 +10,7 @@
 #include "engine/multistart/multistart_options.h"
 #include "engine/solve/problem.h"
 #include "heuristics/families/catalogue.h"
+#include "heuristics/search_box.h"
 #include "server/fit_request.h"
 
 namespace foothold {
@@ -28,15 +29,6 @@ struct StartChoice {
   // Empty when there is no guess (then the engine derives it from the candidates alone).
   SearchBox box;
 };
-
-// The search box of a fit from the guesser's result: for each free parameter with an
-// infinite bound, the candidates' range [v_min, v_max] (clamped into the bounds) widened
-// by 2 max(M, s) on every open side, M = max |v| and s the guesser's typical magnitude;
-// a parameter the guesser samples on a log scale (positive, lower bound >= 0, no upper
-// bound) gets [min(v_min, s) / 100, max(v_max, s) * 100] instead. Finite bounds are left to
-// the engine (infinite entries). docs/multistart.md, "Adversarial corpus", says why.
-SearchBox SearchBoxFromGuess(const Problem& problem, const std::vector<StartCandidate>& candidates,
-                             const Eigen::VectorXd& scale, const std::vector<bool>& log_scale);
 
 // Fills problem->lower/upper/is_fixed and chooses the start. `family` is null for an
 // expression model (then the generic guesser supplies candidates);
