@@ -14,8 +14,6 @@ namespace {
 using testing::MakeProblem;
 using testing::Vec;
 
-constexpr double kTwoPi = 6.283185307179586;
-
 // First start index that reached basin 0, -1 when none converged.
 int FirstStartOfBest(const MultistartSummary& summary) {
   int first = -1;
@@ -25,17 +23,11 @@ int FirstStartOfBest(const MultistartSummary& summary) {
   return first;
 }
 
-// A many-basin sine problem seeded far from the right frequency (truth 1.3, start 0.4).
+// The many-basin sine problem seeded far from the right frequency (truth 1.3, start 0.4).
 struct SineCase {
-  testing::PointwiseModel model = testing::SineModel();
-  Problem problem;
-  SearchBox box;
-  SineCase() {
-    problem = MakeProblem(
-        model, [](double x) { return 2.0 * std::sin(kTwoPi * 1.3 * x); }, 80, 0.0, 0.05, 0.05);
-    box.lower = Vec({-5.0, 0.05});
-    box.upper = Vec({5.0, 6.0});
-  }
+  testing::SearchCase search = testing::ManyBasinSineCase();
+  const Problem& problem = search.problem;
+  const SearchBox& box = search.box;
   MultistartSummary Run(int factor, int max_starts = 0) const {
     MultistartOptions options;
     options.use_stopping_rule = false;  // the budget alone decides

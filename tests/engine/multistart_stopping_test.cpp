@@ -70,14 +70,9 @@ MultistartOptions RuleOptions() {
 
 TEST_CASE("Multistart: the rule stops a one-basin problem long before a many-basin one",
           "[engine]") {
-  const testing::PointwiseModel decay = testing::ExpDecayModel();
-  const Problem decay_problem = MakeProblem(
-      decay, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
-  SearchBox decay_box;
-  decay_box.lower = Vec({0.1, 0.01});
-  decay_box.upper = Vec({10.0, 10.0});
+  const testing::SearchCase decay = testing::DecayCase();
   const MultistartSummary one_basin =
-      RunMultistart(decay_problem, {{"user", Vec({2.0, 0.5})}}, decay_box, RuleOptions());
+      RunMultistart(decay.problem, {{"user", Vec({2.0, 0.5})}}, decay.box, RuleOptions());
   INFO(one_basin.BriefReport());
   CHECK(one_basin.stop == MultistartStop::kStoppingRule);
   CHECK(one_basin.basins.size() == 1);
@@ -86,15 +81,9 @@ TEST_CASE("Multistart: the rule stops a one-basin problem long before a many-bas
   CHECK(one_basin.num_starts_run % RuleOptions().round_size == 0);
   CHECK(one_basin.message.find("expected unseen basins") == 0);
 
-  const testing::PointwiseModel sine = testing::SineModel();
-  const Problem sine_problem = MakeProblem(
-      sine, [](double x) { return 2.0 * std::sin(6.283185307179586 * 1.3 * x); }, 80, 0.0, 0.05,
-      0.05);
-  SearchBox sine_box;
-  sine_box.lower = Vec({-5.0, 0.05});
-  sine_box.upper = Vec({5.0, 6.0});
+  const testing::SearchCase sine = testing::ManyBasinSineCase();
   const MultistartSummary many_basins =
-      RunMultistart(sine_problem, {{"user", Vec({1.0, 0.4})}}, sine_box, RuleOptions());
+      RunMultistart(sine.problem, {{"user", Vec({1.0, 0.4})}}, sine.box, RuleOptions());
   INFO(many_basins.BriefReport());
   CHECK(many_basins.basins.size() > 5);
   CHECK(one_basin.num_starts_run * 4 < many_basins.num_starts_run);
@@ -103,12 +92,9 @@ TEST_CASE("Multistart: the rule stops a one-basin problem long before a many-bas
 
 TEST_CASE("Multistart: the round in flight when the rule fires never reaches the summary",
           "[engine]") {
-  const testing::PointwiseModel decay = testing::ExpDecayModel();
-  const Problem problem = MakeProblem(
-      decay, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
-  SearchBox box;
-  box.lower = Vec({0.1, 0.01});
-  box.upper = Vec({10.0, 10.0});
+  const testing::SearchCase decay = testing::DecayCase();
+  const Problem& problem = decay.problem;
+  const SearchBox& box = decay.box;
   for (int threads : {1, 2, 8}) {
     MultistartOptions options = RuleOptions();
     options.num_threads = threads;
@@ -129,12 +115,9 @@ TEST_CASE("Multistart: the round in flight when the rule fires never reaches the
 }
 
 TEST_CASE("Multistart: the rule never fires before every seeded candidate ran", "[engine]") {
-  const testing::PointwiseModel decay = testing::ExpDecayModel();
-  const Problem problem = MakeProblem(
-      decay, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
-  SearchBox box;
-  box.lower = Vec({0.1, 0.01});
-  box.upper = Vec({10.0, 10.0});
+  const testing::SearchCase decay = testing::DecayCase();
+  const Problem& problem = decay.problem;
+  const SearchBox& box = decay.box;
   // 30 candidates in rounds of 8: the rule could fire on Sobol starts of round 2 if it
   // ignored them; it must wait until round 4 ends.
   std::vector<StartCandidate> candidates;
@@ -160,9 +143,8 @@ TEST_CASE("Multistart: the rule never fires before every seeded candidate ran", 
 }
 
 TEST_CASE("Multistart: with the rule off every planned start runs", "[engine]") {
-  const testing::PointwiseModel decay = testing::ExpDecayModel();
-  const Problem problem = MakeProblem(
-      decay, [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.0, 0.2, 0.01);
+  const testing::SearchCase decay = testing::DecayCase();
+  const Problem& problem = decay.problem;
   MultistartOptions options = RuleOptions();
   options.max_starts = 50;
   options.use_stopping_rule = false;

@@ -10,6 +10,7 @@
 #include <vector>
 
 #include "engine/model/model.h"
+#include "engine/multistart/multistart.h"
 #include "engine/solve/problem.h"
 #include "tests/engine/test_models.h"
 
@@ -84,6 +85,37 @@ inline PointwiseModel PartlyUndefinedLineModel() {
         g[0] = 1;
         g[1] = x;
       });
+}
+
+// A model with its problem and search box, kept together (the problem points at the model,
+// so a case is built in place and never copied).
+struct SearchCase {
+  PointwiseModel model;
+  Problem problem;
+  SearchBox box;
+  SearchCase(PointwiseModel m, const std::function<double(double)>& truth, int n, double step,
+             double perturbation, Eigen::VectorXd lower, Eigen::VectorXd upper)
+      : model(std::move(m)) {
+    problem = MakeProblem(model, truth, n, 0.0, step, perturbation);
+    box.lower = std::move(lower);
+    box.upper = std::move(upper);
+  }
+  SearchCase(const SearchCase&) = delete;
+  SearchCase& operator=(const SearchCase&) = delete;
+};
+
+// 3 exp(-0.7 x) on 40 points: one basin. Seed it with {2, 0.5}.
+inline SearchCase DecayCase() {
+  return SearchCase(
+      ExpDecayModel(), [](double x) { return 3.0 * std::exp(-0.7 * x); }, 40, 0.2, 0.01,
+      Vec({0.1, 0.01}), Vec({10.0, 10.0}));
+}
+
+// 2 sin(2 pi 1.3 x) on 80 points: many basins in frequency. Seeded far off with {1, 0.4}.
+inline SearchCase ManyBasinSineCase() {
+  return SearchCase(
+      SineModel(), [](double x) { return 2.0 * std::sin(6.283185307179586 * 1.3 * x); }, 80, 0.05,
+      0.05, Vec({-5.0, 0.05}), Vec({5.0, 6.0}));
 }
 
 }  // namespace testing
