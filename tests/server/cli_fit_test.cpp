@@ -12,6 +12,7 @@
 
 #include "server/cli.h"
 #include "server/json_codec.h"
+#include "tests/server/temp_dir.h"
 
 namespace fs = std::filesystem;
 using foothold::Json;
@@ -36,27 +37,9 @@ CliRun Run(const std::vector<std::string>& args) {
 }
 
 // A scratch folder per test case, removed afterwards.
-class TempDir {
+class TempDir : public foothold::testing::TempDir {
  public:
-  TempDir() {
-    static int counter = 0;
-    path_ = fs::temp_directory_path() /
-            ("foothold-cli-test-" + std::to_string(::getpid()) + "-" + std::to_string(counter++));
-    fs::create_directories(path_);
-  }
-  ~TempDir() {
-    std::error_code ignored;
-    fs::remove_all(path_, ignored);
-  }
-  std::string Write(const std::string& name, const std::string& text) const {
-    const fs::path file = path_ / name;
-    std::ofstream(file, std::ios::binary) << text;
-    return file.string();
-  }
-  std::string Path(const std::string& name) const { return (path_ / name).string(); }
-
- private:
-  fs::path path_;
+  TempDir() : foothold::testing::TempDir("foothold-cli-test") {}
 };
 
 // A gaussian peak (height 10, center 5, sigma 1.2, baseline 1) with small deterministic

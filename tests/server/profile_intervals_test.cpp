@@ -16,6 +16,7 @@
 #include "server/fit_service.h"
 #include "server/json_codec.h"
 #include "server/verdict.h"
+#include "tests/server/temp_dir.h"
 
 namespace fs = std::filesystem;
 using foothold::FitOutcome;
@@ -77,24 +78,10 @@ bool HasFlag(const FitOutcome& outcome, const std::string& flag) {
   return false;
 }
 
-class TempDir {
+// A scratch folder per test case, removed afterwards.
+class TempDir : public foothold::testing::TempDir {
  public:
-  TempDir() {
-    path_ = fs::temp_directory_path() / ("foothold-profile-test-" + std::to_string(::getpid()));
-    fs::create_directories(path_);
-  }
-  ~TempDir() {
-    std::error_code ignored;
-    fs::remove_all(path_, ignored);
-  }
-  std::string Write(const std::string& name, const std::string& text) const {
-    const fs::path file = path_ / name;
-    std::ofstream(file, std::ios::binary) << text;
-    return file.string();
-  }
-
- private:
-  fs::path path_;
+  TempDir() : foothold::testing::TempDir("foothold-profile-test") {}
 };
 
 std::string GaussianCsv() {
@@ -286,7 +273,8 @@ TEST_CASE("ProfileIntervals: foothold fit --intervals profile prints them", "[se
   bad.insert(bad.end(), {"--intervals", "bootstrap"});
   const CliRun rejected = Run(bad);
   CHECK(rejected.code == foothold::kExitBadInput);
-  CHECK(rejected.err.find("--intervals: 'bootstrap': expected one of wald, profile") != std::string::npos);
+  CHECK(rejected.err.find("--intervals: 'bootstrap': expected one of wald, profile") !=
+        std::string::npos);
   CHECK(Run({"fit", "--help"}).out.find("--intervals wald|profile") != std::string::npos);
 }
 
