@@ -236,8 +236,11 @@ HttpResponse Router::SubmitFit(const HttpRequest& request, const Params& query,
   if (wait > 0) {
     reply->wait_job_id = ids[0];
     reply->wait_seconds = wait;
+    return RenderJob(request, ids[0], true);
   }
-  return RenderJobAfterWait(request, ids[0]);
+  // Without Prefer: wait the answer is always 202, even when a fast worker already finished
+  // the job: clients branch on the status, and a race must not change it.
+  return RenderJob(request, ids[0], false);
 }
 
 bool Router::IsJobFinished(const std::string& id) const {
@@ -248,10 +251,15 @@ bool Router::IsJobFinished(const std::string& id) const {
 }
 
 HttpResponse Router::RenderJobAfterWait(const HttpRequest& request, const std::string& id) const {
+  return RenderJob(request, id, true);
+}
+
+HttpResponse Router::RenderJob(const HttpRequest& request, const std::string& id,
+                               bool waited) const {
   JobRecord job;
   HttpResponse problem;
   if (!LoadJob(request, id, &job, &problem)) return problem;
-  const bool finished = IsFinished(job.state);
+  const bool finished = waited && IsFinished(job.state);
   HttpResponse response = JsonResponse(request, finished ? 200 : 202, EncodeJob(job, finished));
   response.set(http::field::location, "/v1/fits/" + id);
   if (finished) response.set("Preference-Applied", "wait");

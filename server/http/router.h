@@ -85,6 +85,8 @@ class Router {
                        HttpResponse* problem) const;
   bool LoadJob(const HttpRequest& request, const std::string& id, JobRecord* job,
                HttpResponse* problem) const;
+  // The job as 202; as 200 with its result when waited is set and the job has finished.
+  HttpResponse RenderJob(const HttpRequest& request, const std::string& id, bool waited) const;
 
   RouterContext context_;
 };
