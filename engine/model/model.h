@@ -14,6 +14,9 @@ namespace foothold {
 struct PermutationSymmetry {
   std::vector<std::vector<int>> members;
   int sort_position = 0;
+  // Position of the member parameter that is a location on the predictor axis (a peak's
+  // center), or -1 when members have none. Multistart re-seats members there.
+  int location_position = -1;
 };
 
 class Model {

@@ -89,6 +89,7 @@ std::vector<PermutationSymmetry> PeakSymmetries(int num_peaks) {
     symmetry.members.push_back({first, first + 1, first + 2});
   }
   symmetry.sort_position = 1;
+  symmetry.location_position = 1;
   return {symmetry};
 }
 

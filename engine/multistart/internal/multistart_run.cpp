@@ -20,6 +20,8 @@ constexpr double kNaN = std::numeric_limits<double>::quiet_NaN();
 constexpr std::uint64_t kShiftStream = ~std::uint64_t{0};
 // Jitter perturbs one of the kJitterBasins best basins, chosen uniformly.
 constexpr int kJitterBasins = 3;
+// Where the model allows it, one generated start in kReseatPeriod re-seats a member.
+constexpr int kReseatPeriod = 4;
 // Rounds on the pool at once from round 1 on: round r + 1 is planned from the rounds
 // before r, so it can run while r's last starts finish (docs/multistart.md, "Rounds and
 // threads").
@@ -61,6 +63,8 @@ MultistartRun::MultistartRun(const Problem& problem, const std::vector<StartCand
     worker_problems_.back().model = worker_models_.back().get();
   }
   best_rss_so_far_ = kNaN;
+  can_reseat_ = FindReseatSymmetry(problem, &reseat_symmetry_);
+  if (can_reseat_) planning_model_ = problem.model->Clone();
 }
 
 bool MultistartRun::IsJitterSlot(int ordinal) const {
@@ -69,6 +73,12 @@ bool MultistartRun::IsJitterSlot(int ordinal) const {
   // (share 0.25: ordinals 3, 7, 11, ...). Slots before the first basin are Sobol points.
   const double share = options_.jitter_share;
   return std::floor(share * (ordinal + 1)) > std::floor(share * ordinal);
+}
+
+bool MultistartRun::IsReseatSlot(int ordinal) const {
+  // Every kReseatPeriod-th generated start that is not a jitter slot (ordinals 1, 5, 9, ...
+  // with no jitter; the jitter slots keep their places).
+  return !IsJitterSlot(ordinal) && ordinal % kReseatPeriod == 1;
 }
 
 bool MultistartRun::IsCancelled() const {
@@ -90,6 +100,12 @@ std::vector<MultistartRun::PlannedStart> MultistartRun::PlanRound(int number, in
     if (index < num_candidates) {
       planned.origin = candidates_[index].origin;
       planned.start = ClampStart(problem_, box_, candidates_[index].parameters);
+    } else if (can_reseat_ && !summary_.basins.empty() && IsReseatSlot(index - num_candidates)) {
+      RandomStream stream(options_.seed, static_cast<std::uint64_t>(index));
+      planned.origin = "reseat";
+      planned.start = ClampStart(problem_, box_,
+                                 ReseatStart(problem_, *planning_model_, box_, reseat_symmetry_,
+                                             summary_.basins.front().parameters, &stream));
     } else if (!summary_.basins.empty() && IsJitterSlot(index - num_candidates)) {
       RandomStream stream(options_.seed, static_cast<std::uint64_t>(index));
       const int choices = std::min<int>(kJitterBasins, static_cast<int>(summary_.basins.size()));

@@ -11,6 +11,7 @@
 #include <vector>
 
 #include "engine/multistart/internal/basin_clustering.h"
+#include "engine/multistart/internal/reseat_start.h"
 #include "engine/multistart/internal/sobol_sequence.h"
 #include "engine/multistart/internal/start_schedule.h"
 #include "engine/multistart/internal/stopping_rule.h"
@@ -78,6 +79,8 @@ class MultistartRun {
   }
   // Whether generated start `ordinal` (counted after the candidates) perturbs a basin.
   bool IsJitterSlot(int ordinal) const;
+  // Whether it re-seats a member of the best basin (only when can_reseat_).
+  bool IsReseatSlot(int ordinal) const;
   bool IsCancelled() const;
   double ElapsedSeconds() const;
   bool DeadlinePassed() const { return ElapsedSeconds() > options_.deadline_seconds; }
@@ -91,6 +94,11 @@ class MultistartRun {
   std::vector<std::uint32_t> sobol_shift_;
   std::uint64_t num_sobol_planned_ = 0;
   double total_weighted_squares_ = 0;
+
+  // Re-seat starts (reseat_start.h), when the model allows them.
+  bool can_reseat_ = false;
+  PermutationSymmetry reseat_symmetry_;
+  std::unique_ptr<Model> planning_model_;  // evaluates residuals while planning a round
 
   std::vector<std::unique_ptr<Model>> worker_models_;
   std::vector<Problem> worker_problems_;
