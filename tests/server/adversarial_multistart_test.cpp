@@ -8,12 +8,16 @@
 // the fits from the truth and from the slightly perturbed truth (reference_optimum.h).
 //
 // Target (issue #4): 99.5% per family; with fewer than 200 datasets per family that means
-// no miss at all. The table prints, per row, whether the target is met. It is not met yet
-// on the multi_gaussian, merged-peak and logistic5 rows (docs/multistart.md, "Adversarial
-// corpus", says why), so the assertion is a regression guard: no row may miss more than
-// KnownMisses() allows (the misses measured on 2026-12-02 plus one, for last-ulp
-// differences of the vectorised exp between CPUs), and the other rows may miss nothing.
-// Lower an allowance only when the search improves.
+// no miss at all. The table prints, per row, whether the target is met. Since the re-seat
+// starts (engine/multistart/internal/reseat_start.h) it is met on every row but
+// multi_gaussian/merged (26 of 27) and logistic5 (19 of 21), and those three misses are
+// against references on ridges that run to infinity: two peaks of heights +-2.2e12
+// cancelling each other, a logistic5 asymmetry of 1.8e-8 (bottom -7 on data of scale 1e-6)
+// and one of 2.7e5 (docs/multistart.md, "Adversarial corpus"). The assertion is a
+// regression guard: no row may miss more than KnownMisses() allows (the misses measured on
+// 2026-12-02, session 3, plus one for last-ulp differences of the vectorised exp between
+// CPUs), and the other rows may miss nothing. Lower an allowance only when the search
+// improves.
 //
 // Runtime: the full corpus (40 datasets per family, up to 5000 points) takes far longer than
 // a CI test may, so the test fits each family's datasets of at most kMaxPoints points plus
@@ -31,6 +35,7 @@
 #include <vector>
 
 #include "engine/multistart/internal/start_schedule.h"
+#include "engine/stats/fit_statistics.h"
 #include "server/fit_service.h"
 #include "tests/heuristics/corpus/adversarial.h"
 #include "tests/heuristics/corpus/corpus.h"
@@ -50,10 +55,8 @@ constexpr double kRequiredRate = 0.995;
 // Misses allowed per row (see the header comment); rows not listed must miss nothing.
 const std::map<std::string, int>& KnownMisses() {
   static const std::map<std::string, int> misses = {
-      {"multi_gaussian", 1 + 1},
       {"logistic5", 2 + 1},
-      {"multi_gaussian/merged", 2 + 1},
-      {"multi_lorentzian/merged", 3 + 1},
+      {"multi_gaussian/merged", 1 + 1},
   };
   return misses;
 }
@@ -150,7 +153,14 @@ CaseResult RunCase(const corpus::CorpusCase& c, int case_index) {
                 reference.best_start, result.num_starts, outcome.basins.size(),
                 outcome.search_stop.c_str());
   result.message = text;
-  if (!result.is_reached) result.message += "; " + DescribeBox(prepared, reference.parameters);
+  if (!result.is_reached) {
+    result.message += "; " + DescribeBox(prepared, reference.parameters);
+    // A huge condition number would say the reference itself is barely determined.
+    const FitStatistics at_reference = ComputeFitStatistics(prepared.problem, reference.parameters);
+    std::snprintf(text, sizeof(text), "; condition number at the reference %.3g",
+                  at_reference.condition_number);
+    result.message += text;
+  }
   return result;
 }
 
