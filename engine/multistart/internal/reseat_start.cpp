@@ -73,7 +73,8 @@ Eigen::VectorXd ReseatStart(const Problem& problem, const Model& model, const Re
     }
   }
   const int num_members = static_cast<int>(symmetry.members.size());
-  const int member = std::min(num_members - 1, static_cast<int>(stream->NextUniform() * num_members));
+  const int member =
+      std::min(num_members - 1, static_cast<int>(stream->NextUniform() * num_members));
   Eigen::VectorXd start = center;
   const int j = symmetry.members[member][symmetry.location_position];
   start[j] = std::min(box.upper[j], std::max(box.lower[j], x[order[chosen]]));

@@ -21,8 +21,10 @@ bool FindReseatSymmetry(const Problem& problem, PermutationSymmetry* symmetry);
 
 // `center` with the location of one member, chosen uniformly, moved to x_i, where i is drawn
 // with probability proportional to the squared smoothed (weighted) residual of the curve at
-// `center`; the result is clamped into the box. `model` evaluates the curve (one thread
-// at a time). Returns `center` unchanged when the residuals are all zero or not finite.
+// `center`, and that member's other nonlinear parameters (its width) nudged by a normal
+// step of 0.1 of the box's unit width; the result is clamped into the box. `model` evaluates the
+// curve (one thread at a time). Returns `center` unchanged when the residuals are all zero or not
+// finite.
 Eigen::VectorXd ReseatStart(const Problem& problem, const Model& model, const ResolvedBox& box,
                             const PermutationSymmetry& symmetry, const Eigen::VectorXd& center,
                             RandomStream* stream);
