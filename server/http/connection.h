@@ -59,6 +59,7 @@ class Connection : public std::enable_shared_from_this<Connection> {
   boost::asio::steady_timer wait_timer_;
   std::chrono::steady_clock::time_point request_started_;
   std::chrono::steady_clock::time_point wait_until_;
+  std::chrono::milliseconds wait_poll_interval_{0};  // the next poll's delay, doubling
   std::string wait_job_id_;
   std::string wait_route_;
   bool is_refusing_ = false;
