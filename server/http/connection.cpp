@@ -141,7 +141,7 @@ void Connection::PollWait() {
     const bool finished = self->router_->IsJobFinished(self->wait_job_id_);
     const bool expired = std::chrono::steady_clock::now() >= self->wait_until_;
     if (finished || expired) {
-      HttpResponse response = self->router_->RenderJobAfterWait(self->request_, self->wait_job_id_);
+      HttpResponse response = self->router_->RenderJob(self->request_, self->wait_job_id_, true);
       asio::post(self->stream_.get_executor(), [self, response = std::move(response)]() mutable {
         self->DoWrite(std::move(response), self->wait_route_, self->wait_job_id_);
       });

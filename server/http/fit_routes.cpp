@@ -234,9 +234,10 @@ HttpResponse Router::SubmitFit(const HttpRequest& request, const Params& query,
   reply->job_id = ids[0];
   const double wait = std::min(PreferredWait(request), context_.limits.max_wait_seconds);
   if (wait > 0) {
+    // The connection answers once the job is done or the wait is over (RenderJob then).
     reply->wait_job_id = ids[0];
     reply->wait_seconds = wait;
-    return RenderJob(request, ids[0], true);
+    return HttpResponse{};
   }
   // Without Prefer: wait the answer is always 202, even when a fast worker already finished
   // the job: clients branch on the status, and a race must not change it.
@@ -248,10 +249,6 @@ bool Router::IsJobFinished(const std::string& id) const {
   bool found = false;
   std::string error;
   return context_.store->GetJob(id, &job, &found, &error) && found && IsFinished(job.state);
-}
-
-HttpResponse Router::RenderJobAfterWait(const HttpRequest& request, const std::string& id) const {
-  return RenderJob(request, id, true);
 }
 
 HttpResponse Router::RenderJob(const HttpRequest& request, const std::string& id,

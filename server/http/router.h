@@ -35,7 +35,7 @@ struct RouteReply {
   std::string route;   // template, e.g. "/v1/fits/{id}", for metrics and logs
   std::string job_id;  // the job this request concerned, for the log line
   // Set when the client asked Prefer: wait=N on a new fit: the connection polls
-  // IsJobFinished and answers with RenderJobAfterWait.
+  // IsJobFinished and answers with RenderJob(request, id, true); reply.response is unused.
   std::string wait_job_id;
   double wait_seconds = 0;
 };
@@ -51,8 +51,9 @@ class Router {
 
   RouteReply Handle(const HttpRequest& request) const;
   bool IsJobFinished(const std::string& id) const;
-  // 200 with the job and its result when finished, else 202 with the job.
-  HttpResponse RenderJobAfterWait(const HttpRequest& request, const std::string& id) const;
+  // The job as 202; as 200 with its result when `waited` (the client asked Prefer: wait)
+  // and the job has finished.
+  HttpResponse RenderJob(const HttpRequest& request, const std::string& id, bool waited) const;
 
   // Every route served, for the docs check.
   static const std::vector<RouteSpec>& Routes();
@@ -85,8 +86,6 @@ class Router {
                        HttpResponse* problem) const;
   bool LoadJob(const HttpRequest& request, const std::string& id, JobRecord* job,
                HttpResponse* problem) const;
-  // The job as 202; as 200 with its result when waited is set and the job has finished.
-  HttpResponse RenderJob(const HttpRequest& request, const std::string& id, bool waited) const;
 
   RouterContext context_;
 };
