@@ -356,9 +356,12 @@ DATA                     CSV with a header row naming the columns, or a .json fi
 --sigma-column COLUMN    per-point standard deviations (default: the column sigma if present)
 --sigma absolute|relative  how sigma scale the covariance (default absolute)
 --label TEXT             free text carried into the result
---loss NAME              robust loss; only squared for now
---loss-scale S           scale of the robust loss (default 1)
---method NAME            local method; only lm for now
+--loss NAME              squared (default), soft_l1, huber, cauchy, tukey or l1; a robust
+                         loss marks outliers and weighs them down
+--loss-scale S           scale of the robust loss in the response's units (default:
+                         automatic, 1.4826 MAD of the residuals)
+--method NAME            local solver: lm (default, Levenberg-Marquardt), gauss_newton
+                         or bfgs
 --intervals wald|profile confidence intervals: wald (default, from the covariance) or
                          profile (the Wald intervals and, beside them, profile-likelihood
                          intervals; see docs/statistics.md)

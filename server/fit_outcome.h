@@ -6,6 +6,7 @@
 
 #include <Eigen/Core>
 #include <cstdint>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -52,6 +53,12 @@ struct FitOutcome {
   bool ambiguous_basins = false;         // another basin fits almost as well
   bool best_basin_single_start = false;  // only one start reached the best basin
   double best_gap_chi2 = 0;              // gap of the second basin, in chi-square units
+  // Starts stopped by a solver limit while still descending below the best basin
+  // (MultistartSummary::num_runaway_starts), the lowest rss among them (NaN when none) and
+  // the parameters of that end point outside the search box, by name.
+  int runaway_starts = 0;
+  double runaway_rss = std::numeric_limits<double>::quiet_NaN();
+  std::vector<std::string> runaway_parameters;
   // The loss and method of every local fit (docs/robust-fitting.md). For a robust loss the
   // scale is the one at best.parameters (automatic: 1.4826 MAD of the residuals), outliers
   // are the points with |e_i / loss_scale| > outlier_cut, and the statistics' covariance is

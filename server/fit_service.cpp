@@ -533,6 +533,10 @@ void RunManyStarts(const FitRequest& request, const PreparedFit& prepared, const
   outcome->ambiguous_basins = summary.ambiguous_basins;
   outcome->best_basin_single_start = summary.best_basin_single_start;
   outcome->best_gap_chi2 = summary.best_gap_chi2;
+  outcome->runaway_starts = summary.num_runaway_starts;
+  outcome->runaway_rss = summary.runaway_rss;
+  const std::vector<std::string>& names = problem.model->ParameterNames();
+  for (int j : summary.runaway_beyond_box) outcome->runaway_parameters.push_back(names[j]);
   outcome->starts = summary.starts;
   outcome->basins = summary.basins;
   const StartRecord* best = summary.BestStart();

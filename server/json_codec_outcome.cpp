@@ -162,6 +162,9 @@ void DecodeSearch(const Json& document, FitOutcome* out) {
   out->search_message = StringOr(search, "message");
   out->starts_planned = IntOr(search, "starts_planned", static_cast<int>(out->starts.size()));
   out->starts_converged = IntOr(search, "starts_converged");
+  out->runaway_starts = IntOr(search, "runaway_starts");
+  out->runaway_rss = NumberOr(search, "runaway_rss");
+  out->runaway_parameters = Strings(search, "runaway_parameters");
 }
 
 bool DecodeOutcome(const Json& document, FitOutcome* out, std::string* error) {

@@ -218,7 +218,10 @@ Json EncodeFitOutcome(const FitOutcome& outcome) {
                         {"starts_planned", outcome.starts_planned},
                         {"starts_run", outcome.starts.size()},
                         {"starts_converged", outcome.starts_converged},
-                        {"basins", outcome.basins.size()}};
+                        {"basins", outcome.basins.size()},
+                        {"runaway_starts", outcome.runaway_starts},
+                        {"runaway_rss", Number(outcome.runaway_rss)},
+                        {"runaway_parameters", outcome.runaway_parameters}};
   document["verdict"] = {{"flags", outcome.verdict.flags}, {"summary", outcome.verdict.summary}};
   document["guessed"] = outcome.guessed;
   document["warnings"] = outcome.warnings;

@@ -146,6 +146,15 @@ void WriteSearch(const FitOutcome& outcome, std::ostream& out) {
       << (outcome.basins.size() == 1 ? " basin" : " basins") << "; stop: " << outcome.search_stop;
   if (!outcome.search_message.empty()) out << " (" << outcome.search_message << ")";
   out << '\n';
+  if (outcome.runaway_starts > 0) {
+    out << "runaway: " << outcome.runaway_starts
+        << (outcome.runaway_starts == 1 ? " start" : " starts")
+        << " still descending at a solver limit, down to rss " << outcome.runaway_rss;
+    for (size_t k = 0; k < outcome.runaway_parameters.size(); ++k) {
+      out << (k == 0 ? "; beyond the search box: " : ", ") << outcome.runaway_parameters[k];
+    }
+    out << '\n';
+  }
   if (outcome.basins.empty()) return;
   std::vector<std::vector<std::string>> rows;
   std::vector<std::string> header{"basin", outcome.IsWeighted() ? "chi-square" : "rss", "delta",

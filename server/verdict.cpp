@@ -360,6 +360,27 @@ void AddAmbiguityFindings(const FitOutcome& outcome, const VerdictOptions& optio
            "the basins before trusting one."});
 }
 
+// Starts that ran out of iterations below the best basin: the cost falls further along a
+// path the solver could not finish, usually toward parameter values at infinity.
+void AddRunawayFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
+  if (outcome.runaway_starts <= 0 || outcome.basins.empty()) return;
+  const double best = outcome.basins.front().rss;
+  const double percent = best > 0 ? 100 * (best - outcome.runaway_rss) / best : kNaN;
+  std::string where;
+  if (!outcome.runaway_parameters.empty()) {
+    where = ", with " + JoinNames(outcome.runaway_parameters) + " beyond the search box";
+  }
+  const std::string count = std::to_string(outcome.runaway_starts);
+  findings->push_back(
+      {"runaway_descent",
+       count + (outcome.runaway_starts == 1 ? " start was" : " starts were") +
+           " still descending when a solver limit stopped them, at an rss " + Short(percent) +
+           " % below the reported optimum" + where +
+           ": the cost keeps falling toward parameter values the model reaches only in a "
+           "limit, so the reported optimum is not the lowest; fit a simpler model or bound "
+           "those parameters."});
+}
+
 void AddSingleStartFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {
   if (!outcome.best_basin_single_start) return;
   findings->push_back({"best_basin_single_start",
@@ -375,6 +396,7 @@ Verdict Judge(const FitOutcome& outcome, const XRange& range, const VerdictOptio
   AddSizeFindings(outcome, options, &findings);
   AddIdentifiabilityFindings(outcome, options, &findings);
   AddAmbiguityFindings(outcome, options, &findings);
+  AddRunawayFindings(outcome, &findings);
   AddBoundFindings(outcome, &findings);
   AddResidualFindings(outcome, options, &findings);
   AddChiSquareFindings(outcome, options, &findings);

@@ -58,6 +58,9 @@ std::string MultistartSummary::BriefReport() const {
   if (!basins.empty()) out << ", best rss " << basins.front().rss;
   if (ambiguous_basins) out << ", ambiguous";
   if (best_basin_single_start) out << ", best basin from one start";
+  if (num_runaway_starts > 0) {
+    out << ", " << num_runaway_starts << " runaway starts down to rss " << runaway_rss;
+  }
   out << ", " << total_seconds * 1e3 << " ms (" << message << ")";
   return out.str();
 }
@@ -77,6 +80,13 @@ std::string MultistartSummary::FullReport() const {
       << "  verdict inputs      ambiguous_basins " << (ambiguous_basins ? "yes" : "no")
       << ", best_basin_single_start " << (best_basin_single_start ? "yes" : "no") << ", gap "
       << best_gap_chi2 << (gap_in_chi2_units ? " chi2" : " chi2 (variance estimated)") << "\n"
+      << "  runaway starts      " << num_runaway_starts;
+  if (num_runaway_starts > 0) {
+    out << ", lowest rss " << runaway_rss << " (start " << runaway_start_index
+        << "), beyond the box:";
+    for (int j : runaway_beyond_box) out << " " << j;
+  }
+  out << "\n"
       << "  best start          " << best_start_index << "\n"
       << "  time                " << total_seconds << " s\n";
   for (const Basin& basin : basins) {

@@ -4,6 +4,7 @@
 
 #include <Eigen/Core>
 #include <cstdint>
+#include <limits>
 #include <string>
 #include <vector>
 
@@ -92,6 +93,16 @@ struct MultistartSummary {
   bool best_basin_single_start = false;  // basin 0 was reached by one start only
   bool gap_in_chi2_units = false;        // true: absolute sigma; false: rss-relative gap
   double best_gap_chi2 = 0;              // gap of basin 1 in chi-square units (NaN if none)
+  // Runaway starts: stopped by the iteration or evaluation limit, still descending, at an
+  // rss below the best basin's by more than the basin tolerance. Such a path usually runs
+  // along a ridge toward parameter values at infinity (the model's limit fits better than
+  // any finite optimum), so the best basin is not the lowest cost the model reaches.
+  int num_runaway_starts = 0;
+  double runaway_rss = std::numeric_limits<double>::quiet_NaN();  // lowest of their rss
+  int runaway_start_index = -1;  // StartRecord::index of that start
+  // Free parameters of that start's end point outside the search box (indices, ascending):
+  // the ones running off.
+  std::vector<int> runaway_beyond_box;
 
   double total_seconds = 0;
 

@@ -8,16 +8,15 @@
 // the fits from the truth and from the slightly perturbed truth (reference_optimum.h).
 //
 // Target (issue #4): 99.5% per family; with fewer than 200 datasets per family that means
-// no miss at all. The table prints, per row, whether the target is met. Since the re-seat
-// starts (engine/multistart/internal/reseat_start.h) it is met on every row but
-// multi_gaussian/merged (26 of 27) and logistic5 (19 of 21), and those three misses are
-// against references on ridges that run to infinity: two peaks of heights +-2.2e12
-// cancelling each other, a logistic5 asymmetry of 1.8e-8 (bottom -7 on data of scale 1e-6)
-// and one of 2.7e5 (docs/multistart.md, "Adversarial corpus"). The assertion is a
-// regression guard: no row may miss more than KnownMisses() allows (the misses measured on
-// 2026-12-02, session 3, plus one for last-ulp differences of the vectorised exp between
-// CPUs), and the other rows may miss nothing. Lower an allowance only when the search
-// improves.
+// no miss at all, which the test asserts for every row. Three references (measured
+// 2026-12-02) are no attained optimum but a point on a ridge running to infinity: two
+// peaks of heights +-2.2e12 cancelling each other, a logistic5 asymmetry of 1.8e-8 (bottom
+// -7 on data of scale 1e-6) and one of 2.7e5. Local fits there stop at the iteration limit
+// (or at a relative step of 1e-16 far out on the ridge), and so do the multistart's starts
+// that find them: those count as reached when a start went at least as low and the verdict
+// flags runaway_descent, since the answer then says that the cost falls further than its
+// best basin and which parameters run off (docs/multistart.md, "Runaway starts"). The table
+// counts them ("of which runaway") and how often the flag fires in each row.
 //
 // Runtime: the full corpus (40 datasets per family, up to 5000 points) takes far longer than
 // a CI test may, so the test fits each family's datasets of at most kMaxPoints points plus
@@ -52,17 +51,10 @@ constexpr int kLargeCases = 2;
 constexpr double kRelativeRssTolerance = 1e-6;
 constexpr double kRequiredRate = 0.995;
 
-// Misses allowed per row (see the header comment); rows not listed must miss nothing.
-const std::map<std::string, int>& KnownMisses() {
-  static const std::map<std::string, int> misses = {
-      {"logistic5", 2 + 1},
-      {"multi_gaussian/merged", 1 + 1},
-  };
-  return misses;
-}
-
 struct CaseResult {
   bool is_reached = false;
+  bool is_runaway = false;  // reached as a flagged runaway descent (see RunCase)
+  bool is_flagged = false;  // the verdict has runaway_descent
   int num_starts = 0;
   double seconds = 0;
   std::string message;
@@ -145,7 +137,19 @@ CaseResult RunCase(const corpus::CorpusCase& c, int case_index) {
   const corpus::ReferenceOptimum reference =
       corpus::FindReferenceOptimum(prepared.problem, c.truth, local, kCorpusSeed + case_index);
   const double best = outcome.best.final_cost;
-  result.is_reached = std::isfinite(best) && best <= reference.rss * (1 + kRelativeRssTolerance);
+  const double reach = reference.rss * (1 + kRelativeRssTolerance);
+  result.is_reached = std::isfinite(best) && best <= reach;
+  // A reference on a ridge to infinity is no attained optimum: the local fits that find it
+  // stop at the iteration limit, or at a relative step of 1e-16 far out on the ridge. The
+  // search reaches it when some start went at least as low and the verdict says so
+  // (runaway_descent): the answer names the lower cost and the parameters running off
+  // instead of presenting the best finite basin as the optimum.
+  const std::vector<std::string>& flags = outcome.verdict.flags;
+  const bool flagged = std::find(flags.begin(), flags.end(), "runaway_descent") != flags.end();
+  result.is_flagged = flagged;
+  if (!result.is_reached && flagged && outcome.runaway_rss <= reach) {
+    result.is_reached = result.is_runaway = true;
+  }
   char text[320];
   std::snprintf(text, sizeof(text),
                 "best rss %.9g (%s) vs reference %.9g (start %d); %d starts, %zu basins, stop %s",
@@ -153,12 +157,33 @@ CaseResult RunCase(const corpus::CorpusCase& c, int case_index) {
                 reference.best_start, result.num_starts, outcome.basins.size(),
                 outcome.search_stop.c_str());
   result.message = text;
+  if (result.is_runaway) {
+    std::snprintf(text, sizeof(text), "; %d runaway starts down to rss %.9g, beyond the box:",
+                  outcome.runaway_starts, outcome.runaway_rss);
+    result.message += text;
+    for (const std::string& name : outcome.runaway_parameters) result.message += " " + name;
+  }
   if (!result.is_reached) {
     result.message += "; " + DescribeBox(prepared, reference.parameters);
     // A huge condition number would say the reference itself is barely determined.
     const FitStatistics at_reference = ComputeFitStatistics(prepared.problem, reference.parameters);
     std::snprintf(text, sizeof(text), "; condition number at the reference %.3g",
                   at_reference.condition_number);
+    result.message += text;
+    result.message += "; reference fit: " + reference.fit.message;
+    int below = 0;
+    const StartRecord* lowest = nullptr;
+    for (const StartRecord& record : outcome.starts) {
+      if (record.converged || !(record.rss < best)) continue;
+      ++below;
+      if (lowest == nullptr || record.rss < lowest->rss) lowest = &record;
+    }
+    if (lowest != nullptr) {
+      std::snprintf(text, sizeof(text), "; %d unconverged starts below the best, lowest %.9g: ",
+                    below, lowest->rss);
+      result.message += text + lowest->message;
+    }
+    std::snprintf(text, sizeof(text), " (%d iterations)", reference.fit.num_iterations);
     result.message += text;
   }
   return result;
@@ -167,6 +192,8 @@ CaseResult RunCase(const corpus::CorpusCase& c, int case_index) {
 struct FamilyRow {
   int num_cases = 0;
   int num_reached = 0;
+  int num_runaway = 0;  // of num_reached
+  int num_flagged = 0;  // cases whose verdict has runaway_descent
   std::vector<int> starts;
   double seconds = 0;
 };
@@ -230,27 +257,33 @@ TEST_CASE("Multistart: poisoned guesses and nearly merged peaks still reach the 
     FamilyRow& family = rows[row];
     ++family.num_cases;
     if (result.is_reached) ++family.num_reached;
+    if (result.is_runaway) ++family.num_runaway;
+    if (result.is_flagged) ++family.num_flagged;
     family.starts.push_back(result.num_starts);
     family.seconds += result.seconds;
     total_seconds += result.seconds;
-    if (!result.is_reached) std::printf("missed %s: %s\n", c.label.c_str(), result.message.c_str());
+    if (!result.is_reached || result.is_runaway) {
+      std::printf("%s %s: %s\n", result.is_reached ? "runaway" : "missed", c.label.c_str(),
+                  result.message.c_str());
+    }
   }
-  std::printf("\n| family | datasets | reached | rate | target 99.5%% | median starts | cpu s |\n");
-  std::printf("|---|---|---|---|---|---|---|\n");
+  std::printf(
+      "\n| family | datasets | reached | of which runaway | rate | target 99.5%% | "
+      "runaway_descent flagged | median starts | cpu s |\n");
+  std::printf("|---|---|---|---|---|---|---|---|---|\n");
   for (const std::string& name : order) {
     const FamilyRow& row = rows[name];
     const bool met = row.num_reached >= std::ceil(kRequiredRate * row.num_cases);
-    std::printf("| %s | %d | %d | %.1f%% | %s | %d | %.1f |\n", name.c_str(), row.num_cases,
-                row.num_reached, 100.0 * row.num_reached / row.num_cases, met ? "met" : "NOT met",
+    std::printf("| %s | %d | %d | %d | %.1f%% | %s | %d | %d | %.1f |\n", name.c_str(),
+                row.num_cases, row.num_reached, row.num_runaway,
+                100.0 * row.num_reached / row.num_cases, met ? "met" : "NOT met", row.num_flagged,
                 Median(row.starts), row.seconds);
   }
   std::printf("\nmultistart processor time %.1f s in total\n", total_seconds);
   for (const std::string& name : order) {
     const FamilyRow& row = rows[name];
     INFO(name << ": " << row.num_reached << " of " << row.num_cases << " reached");
-    const auto known = KnownMisses().find(name);
-    const int allowed = known == KnownMisses().end() ? 0 : known->second;
-    CHECK(row.num_cases - row.num_reached <= allowed);
+    CHECK(row.num_reached >= std::ceil(kRequiredRate * row.num_cases));
   }
 }
 

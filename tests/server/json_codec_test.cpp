@@ -137,6 +137,10 @@ TEST_CASE("JsonCodec: the result document has every key of DESIGN 3a", "[server]
   CHECK(document["basins"][0]["starts"].get<int>() >= 1);
   REQUIRE(document["starts"].size() > 1);
   CHECK(document["search"]["starts_run"] == document["starts"].size());
+  // A clean peak: no start was cut off below the best basin.
+  CHECK(document["search"]["runaway_starts"] == 0);
+  CHECK(document["search"]["runaway_rss"].is_null());
+  CHECK(document["search"]["runaway_parameters"] == Json::array());
   const Json& start = document["starts"][0];
   for (const char* key : {"index", "origin", "start", "end", "rss", "termination", "iterations",
                           "converged", "basin"}) {

@@ -164,6 +164,25 @@ TEST_CASE("Verdict: a real gap under one chi-square unit reads as two optima", "
   CHECK(verdict.summary.find("Another optimum fits almost as well (gap 0.4") == 0);
 }
 
+TEST_CASE("Verdict: a curve logistic5 reaches only in a limit gives runaway_descent", "[server]") {
+  // exp(-10^((0.3 - x) 0.8)) is logistic5's limit as asymmetry -> infinity with log_ec50
+  // falling like log10(asymmetry) / hill ((1 + u)^-s -> exp(-s u)): every finite parameter
+  // set fits worse than a larger asymmetry, so the starts that head that way run out of
+  // iterations below the best basin the search could settle. Whether the noise leaves the
+  // limit best depends on the draw: noise stream 1 does (so do about a third of streams 1 to
+  // 12 at noise 0.01 to 0.05); the others settle at a finite asymmetry the noise prefers.
+  FitRequest request = Generate([](double x) { return std::exp(-std::pow(10.0, (0.3 - x) * 0.8)); },
+                                40, -3, 3, 0.02, 0, 1);
+  request.model.family = "logistic5";
+  const FitOutcome outcome = Fit(request);
+  RequireOnly(outcome, "runaway_descent");
+  CHECK(outcome.runaway_starts > 0);
+  REQUIRE(!outcome.basins.empty());
+  CHECK(outcome.runaway_rss < outcome.basins.front().rss);
+  CHECK(outcome.runaway_parameters == std::vector<std::string>{"asymmetry"});
+  CHECK(outcome.verdict.summary.find("with asymmetry beyond the search box") != std::string::npos);
+}
+
 TEST_CASE("Verdict: a bound that holds the optimum back gives at_bound", "[server]") {
   FitRequest request = CleanGaussian(0);
   request.model.family = "gaussian";
@@ -268,8 +287,11 @@ TEST_CASE("Verdict: flags come most severe first", "[server]") {
   outcome.statistics.durbin_watson = 0.5;
   outcome.statistics.condition_number = 1e12;
   outcome.best_basin_single_start = true;
+  outcome.runaway_starts = 2;
+  outcome.runaway_rss = 0.5 * outcome.basins.front().rss;
   const foothold::Verdict verdict = foothold::JudgeFit(outcome);
-  CHECK(verdict.flags == std::vector<std::string>{"not_identifiable", "structured_residuals",
+  CHECK(verdict.flags == std::vector<std::string>{"not_identifiable", "runaway_descent",
+                                                  "structured_residuals",
                                                   "best_basin_single_start"});
   CHECK(verdict.summary.find("barely determined") != std::string::npos);
 }

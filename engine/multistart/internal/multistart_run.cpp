@@ -342,6 +342,32 @@ void MultistartRun::FillVerdict() {
   }
 }
 
+void MultistartRun::FindRunawayStarts() {
+  summary_.runaway_rss = kNaN;
+  if (summary_.basins.empty()) return;
+  // Below the best basin by more than the tolerance that makes two costs one basin.
+  const double best = summary_.basins.front().rss;
+  const double below =
+      best - options_.cost_relative_tolerance * best - kCostFloorShare * total_weighted_squares_;
+  const StartRecord* lowest = nullptr;
+  for (const StartRecord& record : summary_.starts) {
+    const bool at_limit = record.termination == Termination::kIterationLimit ||
+                          record.termination == Termination::kEvaluationLimit;
+    if (record.converged || !at_limit || !std::isfinite(record.rss) || !(record.rss < below)) {
+      continue;
+    }
+    ++summary_.num_runaway_starts;
+    if (lowest == nullptr || record.rss < lowest->rss) lowest = &record;
+  }
+  if (lowest == nullptr) return;
+  summary_.runaway_rss = lowest->rss;
+  summary_.runaway_start_index = lowest->index;
+  for (int j : box_.free) {
+    const double value = lowest->end[j];
+    if (value < box_.lower[j] || value > box_.upper[j]) summary_.runaway_beyond_box.push_back(j);
+  }
+}
+
 MultistartSummary MultistartRun::Execute() {
   const int num_candidates = static_cast<int>(candidates_.size());
   summary_.seed = options_.seed;
@@ -459,6 +485,7 @@ MultistartSummary MultistartRun::Execute() {
   summary_.expected_unseen_basins = estimate.expected_unseen_minima;
   summary_.expected_unobserved_share = estimate.expected_unobserved_share;
   FillVerdict();
+  FindRunawayStarts();
   summary_.total_seconds = ElapsedSeconds();
   return summary_;
 }

@@ -73,6 +73,8 @@ class MultistartRun {
   // Index of the first start that reached the best basin (basin 0), -1 when none converged.
   int FirstStartOfBestBasin() const;
   void FillVerdict();
+  // Sets the summary's runaway fields from the starts that ran and the basins.
+  void FindRunawayStarts();
 
   bool IsDiscarded(int round) const {
     return round >= first_discarded_round_.load(std::memory_order_relaxed);

@@ -24,6 +24,7 @@ struct ReferenceOptimum {
   double rss = std::numeric_limits<double>::infinity();
   Eigen::VectorXd parameters;
   int best_start = -1;  // 0: the truth; k > 0: the k-th perturbed truth
+  LocalFitSummary fit;  // the local fit that gave it
 };
 
 inline ReferenceOptimum FindReferenceOptimum(const Problem& problem, const Eigen::VectorXd& truth,
@@ -42,6 +43,7 @@ inline ReferenceOptimum FindReferenceOptimum(const Problem& problem, const Eigen
       reference.rss = fit.final_cost;
       reference.parameters = fit.parameters;
       reference.best_start = k;
+      reference.fit = fit;
     }
   }
   return reference;
