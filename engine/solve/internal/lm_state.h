@@ -2,13 +2,11 @@
 // The working state of one Levenberg–Marquardt run: buffers sized once, so the iteration
 // loop itself does not allocate.
 //
-// Per Jacobian the state forms the Gram matrix J^T J and the gradient J^T f of the free
-// columns in one pass over J (no copy of J) and factors the working block by a pivoted
-// Cholesky when its scaled condition allows (R^T R = P^T J^T J P is the R of a pivoted QR of
-// J up to signs). An ill-conditioned, rank-deficient or overflowing block falls back to the
-// pivoted Householder QR of the working columns, and so does every iteration once the
-// accepted reductions have become small (the last steps decide the answer's digits). Either way the
-// subproblem then sees only R, the pivot and Q^T f, so a rejected trial step costs O(m^2).
+// Per Jacobian the state weights the free columns, packs them to the front of the Jacobian
+// buffer and takes the gradient J^T f and the column norms column by column. The working
+// columns are then factored in place by Eigen's column-pivoted Householder QR (no copy of
+// J), and the subproblem sees only R, the pivot and Q^T f, so a rejected trial step costs
+// O(m^2).
 //
 // Trial points are evaluated with the Jacobian while steps are being accepted: an accepted
 // trial then brings its Jacobian along and the next iteration does not call the model
