@@ -5,6 +5,7 @@
 
 #include "server/http/http_helpers.h"
 #include "server/http/problem_codec.h"
+#include "server/http/web_page.h"
 #include "server/job_codec.h"
 #include "server/json_codec.h"
 
@@ -140,7 +141,7 @@ HttpResponse Router::Dispatch(const HttpRequest& request, const std::string& rou
                               const Params& path, const Params& query, RouteReply* reply) const {
   const bool is_post = request.method() == http::verb::post;
   const std::string id = path.count("id") ? path.at("id") : "";
-  if (route == "/") return Home(request);
+  if (route == "/") return Home(request, query);
   if (route == "/healthz") return JsonResponse(request, 200, Json{{"status", "ok"}});
   if (route == "/readyz") return Ready(request);
   if (route == "/metrics") return MetricsText(request);
@@ -195,30 +196,34 @@ HttpResponse Router::Families(const HttpRequest& request) const {
   return JsonResponse(request, 200, EncodeFamilies());
 }
 
-HttpResponse Router::Home(const HttpRequest& request) const {
-  JobFilter filter;
-  filter.limit = 50;
-  JobPage page;
-  std::string error;
-  context_.store->ListJobs(filter, &page, &error);
-  std::ostringstream html;
-  html << "<!doctype html>\n<html><head><meta charset=\"utf-8\"><title>foothold</title></head>"
-          "<body>\n<h1>foothold</h1>\n<p>Recent fits, newest first. API: <a "
-          "href=\"/v1/fits\">/v1/fits</a>, <a href=\"/v1/families\">/v1/families</a>.</p>\n"
-          "<table>\n<tr><th>id</th><th>label</th><th>state</th><th>created</th><th>plot</th>"
-          "<th>basins</th></tr>\n";
-  for (const JobRecord& job : page.jobs) {
-    const std::string self = "/v1/fits/" + job.id;
-    html << "<tr><td><a href=\"" << self << "\">" << job.id << "</a></td><td>"
-         << HtmlEscape(job.label) << "</td><td>" << ToString(job.state) << "</td><td>"
-         << FormatRfc3339(job.created_ms) << "</td><td><a href=\"" << self
-         << "/plot.svg\">plot</a></td><td><a href=\"" << self << "/basins.svg\">basins</a>"
-         << "</td></tr>\n";
+HttpResponse Router::Home(const HttpRequest& request, const Params& query) const {
+  for (const auto& [key, value] : query) {
+    if (key != "fit") {
+      return MakeProblem(request.version(), 400, "invalid-query", "Bad Request",
+                         "query parameter '" + key + "' is not known here (the page takes fit=ID)",
+                         std::string(request.target()));
+    }
   }
-  html << "</table>\n</body></html>\n";
+  std::string html;
+  if (query.count("fit")) {
+    JobRecord job;
+    HttpResponse problem;
+    if (!LoadJob(request, query.at("fit"), &job, &problem)) return problem;
+    html = RenderFitPage(job);
+  } else {
+    JobFilter filter;
+    filter.limit = 50;
+    JobPage page;
+    std::string error;
+    if (!context_.store->ListJobs(filter, &page, &error)) {
+      return MakeProblem(request.version(), 503, "store-unavailable", "Service Unavailable", error,
+                         std::string(request.target()));
+    }
+    html = RenderJobsPage(page);
+  }
   HttpResponse response(http::status::ok, request.version());
   response.set(http::field::content_type, "text/html; charset=utf-8");
-  response.body() = html.str();
+  response.body() = std::move(html);
   response.prepare_payload();
   return response;
 }

@@ -63,7 +63,8 @@ class Router {
   HttpResponse Dispatch(const HttpRequest& request, const std::string& route, const Params& path,
                         const Params& query, RouteReply* reply) const;
 
-  HttpResponse Home(const HttpRequest& request) const;
+  // The web page (web_page.h): the recent fits, or one fit with ?fit=ID.
+  HttpResponse Home(const HttpRequest& request, const Params& query) const;
   HttpResponse Ready(const HttpRequest& request) const;
   HttpResponse MetricsText(const HttpRequest& request) const;
   HttpResponse Families(const HttpRequest& request) const;
