@@ -366,19 +366,22 @@ void AddRunawayFindings(const FitOutcome& outcome, std::vector<Finding>* finding
   if (outcome.runaway_starts <= 0 || outcome.basins.empty()) return;
   const double best = outcome.basins.front().rss;
   const double percent = best > 0 ? 100 * (best - outcome.runaway_rss) / best : kNaN;
-  std::string where;
-  if (!outcome.runaway_parameters.empty()) {
-    where = ", with " + JoinNames(outcome.runaway_parameters) + " beyond the search box";
-  }
   const std::string count = std::to_string(outcome.runaway_starts);
-  findings->push_back(
-      {"runaway_descent",
-       count + (outcome.runaway_starts == 1 ? " start was" : " starts were") +
-           " still descending when a solver limit stopped them, at an rss " + Short(percent) +
-           " % below the reported optimum" + where +
-           ": the cost keeps falling toward parameter values the model reaches only in a "
-           "limit, so the reported optimum is not the lowest; fit a simpler model or bound "
-           "those parameters."});
+  std::string sentence = count + (outcome.runaway_starts == 1 ? " start was" : " starts were") +
+                         " still descending when a solver limit stopped them, at an rss " +
+                         Short(percent) + " % below the reported optimum";
+  if (!outcome.runaway_parameters.empty()) {
+    sentence += ", with " + JoinNames(outcome.runaway_parameters) +
+                " beyond the search box: the cost keeps falling toward parameter values the "
+                "model reaches only in a limit, so the reported optimum is not the lowest; fit "
+                "a simpler model or bound those parameters.";
+  } else {
+    sentence +=
+        ": the cost keeps falling along a path the solver could not finish (often a ridge "
+        "toward a limit of the model), so the reported optimum is not the lowest; raise "
+        "max_iterations, fit a simpler model or bound the parameters.";
+  }
+  findings->push_back({"runaway_descent", sentence});
 }
 
 void AddSingleStartFindings(const FitOutcome& outcome, std::vector<Finding>* findings) {

@@ -85,6 +85,13 @@ struct MultistartOptions {
   bool use_stopping_rule = true;
   double stopping_threshold = 0.5;
 
+  // After the rounds, the lowest runaway start (stopped by the iteration or evaluation
+  // limit below the best basin, MultistartSummary::num_runaway_starts) runs once more from
+  // its end point with a fresh solver budget, origin "resume": a slow fit then settles
+  // into the basin it was heading for, and a fit on a ridge to infinity stays a runaway
+  // start, further out. Not after a cancellation or the deadline. Default on.
+  bool resume_runaway_start = true;
+
   // Two converged end points share a basin when their rss agree within
   // cost_relative_tolerance * max(rss) (plus 1e-12 of the weighted total sum of squares, so
   // exact fits compare equal) and, for every free parameter, the canonical values differ by

@@ -26,7 +26,7 @@ bool MultistartStopFromString(const std::string& text, MultistartStop* stop);
 // One local fit in the start log.
 struct StartRecord {
   int index = 0;           // position in the schedule (seeded candidates first)
-  std::string origin;      // "user" | "guess:<name>" | "sobol" | "jitter" | "reseat"
+  std::string origin;      // "user" | "guess:<name>" | "sobol" | "jitter" | "reseat" | "resume"
   Eigen::VectorXd start;   // size p, inside the bounds
   Eigen::VectorXd end;     // size p, as the solver left it (not canonicalised)
   double initial_rss = 0;  // NaN when the model is not finite at the start

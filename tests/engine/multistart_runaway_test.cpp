@@ -23,11 +23,12 @@ Eigen::VectorXd PoorOptimum(const Problem& problem) {
   return fit.parameters;
 }
 
-MultistartOptions CandidatesOnly(int max_iterations) {
+MultistartOptions CandidatesOnly(int max_iterations, bool resume = false) {
   MultistartOptions options;
   options.max_starts = 2;
   options.num_threads = 2;
   options.local.max_iterations = max_iterations;
+  options.resume_runaway_start = resume;
   return options;
 }
 
@@ -51,6 +52,31 @@ TEST_CASE("Multistart: a start cut off below the best basin is a runaway start",
   CHECK(summary.runaway_start_index == 1);
   CHECK(summary.runaway_beyond_box.empty());  // it stopped near the truth, inside the box
   CHECK(summary.BriefReport().find("1 runaway starts") != std::string::npos);
+}
+
+TEST_CASE("Multistart: the lowest runaway start is resumed and settles where it was heading",
+          "[engine]") {
+  const testing::SearchCase sine = testing::ManyBasinSineCase();
+  const Eigen::VectorXd poor = PoorOptimum(sine.problem);
+  const std::vector<StartCandidate> candidates = {{"guess:poor", poor},
+                                                  {"guess:near", Vec({2.05, 1.31})}};
+  // Four iterations cut the near start off; four more from where it stopped finish it.
+  const MultistartSummary summary =
+      RunMultistart(sine.problem, candidates, sine.box, CandidatesOnly(4, true));
+  INFO(summary.FullReport());
+  REQUIRE(summary.starts.size() == 3);
+  const StartRecord& unfinished = summary.starts[1];
+  const StartRecord& resumed = summary.starts[2];
+  REQUIRE(unfinished.termination == Termination::kIterationLimit);
+  CHECK(resumed.index == 2);
+  CHECK(resumed.origin == "resume");
+  CHECK(resumed.start == unfinished.end);
+  CHECK(resumed.initial_rss == unfinished.rss);
+  CHECK(resumed.converged);
+  CHECK(summary.num_starts_planned == 3);
+  REQUIRE(summary.basins.size() == 2);
+  CHECK(summary.basins.front().representative_start == 2);
+  CHECK(summary.num_runaway_starts == 0);  // the resumed basin is below the cut-off start
 }
 
 TEST_CASE("Multistart: no runaway start when the unfinished start is above the best basin",

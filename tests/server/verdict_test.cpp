@@ -296,6 +296,17 @@ TEST_CASE("Verdict: flags come most severe first", "[server]") {
   CHECK(verdict.summary.find("barely determined") != std::string::npos);
 }
 
+TEST_CASE("Verdict: a runaway start inside the box asks for more iterations", "[server]") {
+  FitOutcome outcome = CleanOutcome();
+  outcome.runaway_starts = 1;
+  outcome.runaway_rss = 0.75 * outcome.basins.front().rss;
+  const foothold::Verdict verdict = foothold::JudgeFit(outcome);
+  CHECK(verdict.flags == std::vector<std::string>{"runaway_descent"});
+  CHECK(verdict.summary.find("1 start was still descending") == 0);
+  CHECK(verdict.summary.find("at an rss 25 % below the reported optimum") != std::string::npos);
+  CHECK(verdict.summary.find("raise max_iterations") != std::string::npos);
+}
+
 TEST_CASE("Verdict: options validate with the field, value and rule", "[server]") {
   foothold::VerdictOptions options;
   std::string error;

@@ -343,7 +343,10 @@ void MultistartRun::FillVerdict() {
 }
 
 void MultistartRun::FindRunawayStarts() {
+  summary_.num_runaway_starts = 0;
   summary_.runaway_rss = kNaN;
+  summary_.runaway_start_index = -1;
+  summary_.runaway_beyond_box.clear();
   if (summary_.basins.empty()) return;
   // Below the best basin by more than the tolerance that makes two costs one basin.
   const double best = summary_.basins.front().rss;
@@ -366,6 +369,31 @@ void MultistartRun::FindRunawayStarts() {
     const double value = lowest->end[j];
     if (value < box_.lower[j] || value > box_.upper[j]) summary_.runaway_beyond_box.push_back(j);
   }
+}
+
+void MultistartRun::ResumeLowestRunaway() {
+  FindRunawayStarts();
+  const StartRecord* lowest = nullptr;
+  for (const StartRecord& record : summary_.starts) {
+    if (record.index == summary_.runaway_start_index) lowest = &record;
+  }
+  if (lowest == nullptr) return;
+  PlannedStart planned;
+  planned.index = static_cast<int>(summary_.starts.size());
+  for (const StartRecord& record : summary_.starts) {
+    planned.index = std::max(planned.index, record.index + 1);
+  }
+  planned.round = -1;  // after the rounds: never discarded
+  planned.origin = "resume";
+  planned.start = lowest->end;
+  // Every round is absorbed or discarded, so worker 0's model is free on this thread.
+  StartRecord record = RunStart(planned, 0);
+  summary_.starts.push_back(std::move(record));
+  {
+    std::lock_guard<std::mutex> lock(progress_mutex_);
+    ++summary_.num_starts_planned;
+  }
+  UpdateBasins();
 }
 
 MultistartSummary MultistartRun::Execute() {
@@ -448,6 +476,7 @@ MultistartSummary MultistartRun::Execute() {
     }
     dispatch();
   }
+  if (options_.resume_runaway_start && !saw_cancel_ && !saw_deadline_) ResumeLowestRunaway();
   const int num_run = static_cast<int>(summary_.starts.size());
   if (saw_cancel_) {
     summary_.stop = MultistartStop::kCancelled;

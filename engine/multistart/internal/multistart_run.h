@@ -75,6 +75,9 @@ class MultistartRun {
   void FillVerdict();
   // Sets the summary's runaway fields from the starts that ran and the basins.
   void FindRunawayStarts();
+  // Runs the lowest runaway start on from its end point (resume_runaway_start) and
+  // re-clusters; the pool is idle by then.
+  void ResumeLowestRunaway();
 
   bool IsDiscarded(int round) const {
     return round >= first_discarded_round_.load(std::memory_order_relaxed);
