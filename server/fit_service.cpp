@@ -346,15 +346,34 @@ bool CheckGivenValues(const FitRequest& request, const std::vector<FamilyParamet
   return true;
 }
 
+// The dataset, the model of `spec` and the problem's data for `request`: the admission and
+// plot paths, with PrepareFit's messages. The problem's bounds are left as they are.
+bool BuildModelProblem(const FitRequest& request, ModelSpec spec, std::unique_ptr<Model>* model,
+                       std::vector<FamilyParameter>* family_parameters, Problem* problem,
+                       std::string* error) {
+  std::vector<std::string> predictor_columns;
+  Dataset all_columns;
+  std::string sigma_column;
+  if (!BuildDataset(request, &predictor_columns, &all_columns, &sigma_column, error)) return false;
+  FamilyRequest family_request;
+  if (!BuildModel(predictor_columns, all_columns, &spec, &family_request, model,
+                  family_parameters, error)) {
+    return false;
+  }
+  problem->model = model->get();
+  std::string select_error;
+  if (!all_columns.SelectPredictors((*model)->PredictorNames(), &problem->data, &select_error)) {
+    *error = "data: " + select_error + " (columns: " + request.data.ListColumnNames() + ")";
+    return false;
+  }
+  return true;
+}
+
 }  // namespace
 
 bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_parameters,
                                     std::string* error) {
   if (!request.Validate(error)) return false;
-  std::vector<std::string> predictor_columns;
-  Dataset all_columns;
-  std::string sigma_column;
-  if (!BuildDataset(request, &predictor_columns, &all_columns, &sigma_column, error)) return false;
   // Resolving "auto" fits every candidate count; admission takes the widest model instead.
   ModelSpec spec = request.model;
   const int auto_limit = std::min(kMaxAutoPeaks, (request.data.NumRows() - 4) / 3);
@@ -364,9 +383,8 @@ bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_paramete
   }
   std::unique_ptr<Model> model;
   std::vector<FamilyParameter> family_parameters;
-  FamilyRequest family_request;
-  if (!BuildModel(predictor_columns, all_columns, &spec, &family_request, &model,
-                  &family_parameters, error)) {
+  Problem problem;
+  if (!BuildModelProblem(request, spec, &model, &family_parameters, &problem, error)) {
     return false;
   }
   if (request.model.auto_peaks && auto_limit < 1) {
@@ -374,17 +392,25 @@ bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_paramete
              " points are too few to compare even one peak by AICc (need >= 7)";
     return false;
   }
-  Problem problem;
-  problem.model = model.get();
-  std::string select_error;
-  if (!all_columns.SelectPredictors(model->PredictorNames(), &problem.data, &select_error)) {
-    *error = "data: " + select_error + " (columns: " + request.data.ListColumnNames() + ")";
-    return false;
-  }
   if (!CheckGivenValues(request, family_parameters, &problem, error)) return false;
   LevenbergMarquardtOptions options;
   if (!CheckProblemAndSolver(request, problem, &options, error)) return false;
   *num_parameters = model->NumParameters();
+  return true;
+}
+
+bool BuildModelAndData(const FitRequest& request, std::unique_ptr<Model>* model, Dataset* data,
+                       std::string* error) {
+  if (request.model.auto_peaks) {
+    *error = "model.peaks = 'auto': the peak count must be resolved first";
+    return false;
+  }
+  std::vector<FamilyParameter> family_parameters;
+  Problem problem;
+  if (!BuildModelProblem(request, request.model, model, &family_parameters, &problem, error)) {
+    return false;
+  }
+  *data = std::move(problem.data);
   return true;
 }
 

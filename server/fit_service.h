@@ -52,6 +52,12 @@ bool PrepareFit(const FitRequest& request, PreparedFit* out, std::string* error)
 bool ValidateFitRequestForAdmission(const FitRequest& request, int* num_parameters,
                                     std::string* error);
 
+// The model and the dataset it reads, for a request whose model is resolved (no "peaks":
+// "auto"): what a plot of a stored result needs, without the guesser or a fit. PrepareFit's
+// messages for bad data or a bad model.
+bool BuildModelAndData(const FitRequest& request, std::unique_ptr<Model>* model, Dataset* data,
+                       std::string* error);
+
 // Minimises and describes the result; never fails: numerical outcomes are data.
 FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared);
 FitOutcome RunPreparedFit(const FitRequest& request, const PreparedFit& prepared,

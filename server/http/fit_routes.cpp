@@ -2,6 +2,8 @@
 // fits, batches and guesses.
 #include <algorithm>
 #include <cmath>
+#include <limits>
+#include <memory>
 #include <sstream>
 
 #include "server/fit_service.h"
@@ -328,32 +330,38 @@ HttpResponse Router::PlotFit(const HttpRequest& request, const std::string& id, 
     }
     svg = RenderBasinsSvg(title + ": basins", bars);
   } else {
+    // The stored request and the result's resolved model (the winner of a comparison, the
+    // peak count "auto" chose): model and data are rebuilt without the guesser or a fit.
     FitRequest fit;
-    PreparedFit prepared;
     std::string error;
     const bool decoded = DecodeFitRequestText(job.request_json, &fit, &error);
-    if (decoded && !fit.compare.empty())
+    if (decoded && (!fit.compare.empty() || fit.model.auto_peaks))
       UseResultModel(ResultMember(job.result_json, "model"), &fit);
-    if (!decoded || !PrepareFit(fit, &prepared, &error)) {
+    std::unique_ptr<Model> model;
+    Dataset data;
+    if (!decoded || !BuildModelAndData(fit, &model, &data, &error)) {
       return ProblemFor(request, 409, "not-plottable", "Conflict", "fit '" + id + "': " + error);
     }
     const Json best = ResultMember(job.result_json, "best");
-    const std::vector<std::string>& names = prepared.model->ParameterNames();
-    Eigen::VectorXd parameters = prepared.start;
+    const std::vector<std::string>& names = model->ParameterNames();
+    Eigen::VectorXd parameters(static_cast<Eigen::Index>(names.size()));
     for (size_t i = 0; i < names.size(); ++i) {
-      if (best.is_object() && best.contains("parameters") &&
-          best["parameters"].contains(names[i]) &&
-          best["parameters"][names[i]]["value"].is_number()) {
-        parameters[static_cast<Eigen::Index>(i)] =
-            best["parameters"][names[i]]["value"].get<double>();
+      const bool has_value = best.is_object() && best.contains("parameters") &&
+                             best["parameters"].contains(names[i]) &&
+                             best["parameters"][names[i]]["value"].is_number();
+      if (!has_value) {
+        return ProblemFor(
+            request, 409, "not-plottable", "Conflict",
+            "fit '" + id + "': the result has no value for parameter '" + names[i] + "'");
       }
+      parameters[static_cast<Eigen::Index>(i)] =
+          best["parameters"][names[i]]["value"].get<double>();
     }
-    const Dataset& data = prepared.problem.data;
     FitPlotData plot;
     plot.title = title;
     const int n = data.NumPoints();
-    std::vector<double> fitted(static_cast<size_t>(n));
-    prepared.model->Evaluate(data.predictors, parameters.data(), fitted.data());
+    std::vector<double> fitted(static_cast<size_t>(n), std::numeric_limits<double>::quiet_NaN());
+    model->Evaluate(data.predictors, parameters.data(), fitted.data());
     for (int i = 0; i < n; ++i) {
       plot.x.push_back(data.predictors.cols() > 0 ? data.predictors(i, 0) : i);
       plot.y.push_back(data.response[i]);

@@ -2,6 +2,7 @@
 // `foothold fit --json`, and a long list of bad requests that must each be a 4xx problem
 // document while the daemon stays healthy.
 #include <catch2/catch.hpp>
+#include <cmath>
 #include <cstdio>
 #include <fstream>
 #include <nlohmann/json.hpp>
@@ -133,6 +134,32 @@ TEST_CASE("Daemon: job resources, listing, batches, guesses, plots and service e
         std::string::npos);
   CHECK(metrics.body.find("foothold_fit_duration_seconds_count") != std::string::npos);
   CHECK(Request(port, "GET", "/").body.find("/plot.svg") != std::string::npos);
+}
+
+TEST_CASE("Daemon: the plot of a peaks-auto fit draws the peak count the fit chose",
+          "[server]") {
+  const int port = SharedDaemon().port();
+  REQUIRE(port > 0);
+  // Two well separated gaussians on 40 points; the plot rebuilds the model from the
+  // result's resolved count, without refitting every count.
+  json x = json::array(), y = json::array();
+  for (int i = 0; i < 40; ++i) {
+    const double xi = 0.25 * i;
+    x.push_back(xi);
+    y.push_back(4 * std::exp(-(xi - 3) * (xi - 3) / 0.5) +
+                2 * std::exp(-(xi - 7) * (xi - 7) / 0.5) + 0.02 * std::sin(3.1 * i));
+  }
+  const json body = {{"model", {{"family", "multi_gaussian"}, {"peaks", "auto"}}},
+                     {"data", {{"x", x}, {"y", y}}}};
+  const testing::HttpReply posted = Request(port, "POST", "/v1/fits", body.dump(),
+                                            "application/json", {{"Prefer", "wait=60"}});
+  REQUIRE(posted.status == 200);
+  const json job = json::parse(posted.body);
+  CHECK(job["result"]["model"]["peaks"] == 2);
+  const testing::HttpReply plot =
+      Request(port, "GET", "/v1/fits/" + job["id"].get<std::string>() + "/plot.svg");
+  CHECK(plot.status == 200);
+  CHECK(plot.body.find("<polyline class=\"fit\"") != std::string::npos);
 }
 
 TEST_CASE("Daemon: every bad request is a 4xx problem document and the daemon stays healthy",
