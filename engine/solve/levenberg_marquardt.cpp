@@ -78,6 +78,7 @@ LocalFitSummary MinimizeLevenbergMarquardt(const Problem& problem, const Eigen::
                                            const LevenbergMarquardtOptions& options) {
   const Clock::time_point started = Clock::now();
   internal::LmState state(problem, start);
+  if (options.use_geodesic_acceleration) state.KeepFullQ();
   LocalFitSummary summary;
   summary.start = start;
 

@@ -7,6 +7,17 @@
 
 namespace foothold {
 namespace internal {
+namespace {
+
+// Row blocks of the tall path: 256 rows of a few columns stay in L1/L2 while reduced. From
+// 1024 rows on the path was measured faster (docs/benchmarks.md: P2, 2000 x 10, and P4,
+// 100000 x 3); shorter Jacobians stay in cache anyway and keep the plain QR, so the NIST
+// StRD problems (at most 250 rows) keep their digits.
+constexpr Eigen::Index kRowBlockRows = 256;
+constexpr Eigen::Index kRowBlockMinRows = 4 * kRowBlockRows;
+
+}  // namespace
+
 LmState::LmState(const Problem& problem, const Eigen::VectorXd& start)
     : x(start), problem_(problem) {
   const int n = problem.data.NumPoints();
@@ -133,6 +144,21 @@ void LmState::FactorizeQr() {
     if (working_pos_[k] != k) jacobian_.col(k) = jacobian_.col(working_pos_[k]);
     working_pos_[k] = k;
   }
+  if (allow_row_blocks_ && jacobian_.rows() >= kRowBlockMinRows) {
+    // The triangle's Q^T f, then the pivoted QR of the triangle and its reflectors on it.
+    ReduceRowBlocks();
+    Eigen::Ref<Eigen::MatrixXd> triangle = row_triangle_;
+    qr_.emplace(triangle);
+    system_.r = qr_->matrixQR().triangularView<Eigen::Upper>();
+    system_.pivot = qr_->colsPermutation().indices();
+    system_.qtf = row_stack_.col(m).head(m);
+    const auto& factored = qr_->matrixQR();
+    for (int k = 0; k < m; ++k) {
+      system_.qtf.tail(m - k).applyHouseholderOnTheLeft(factored.col(k).tail(m - k - 1),
+                                                        qr_->hCoeffs()[k], &reflector_work_);
+    }
+    return;
+  }
   Eigen::Ref<Eigen::MatrixXd> block = jacobian_.leftCols(m);
   qr_.emplace(block);
   system_.r = qr_->matrixQR().topLeftCorner(m, m).triangularView<Eigen::Upper>();
@@ -140,6 +166,36 @@ void LmState::FactorizeQr() {
   scratch_n_ = f;
   ApplyReflectors(&scratch_n_);
   system_.qtf = scratch_n_.head(m);
+}
+
+void LmState::ReduceRowBlocks() {
+  const Eigen::Index m = static_cast<Eigen::Index>(working_.size());
+  const Eigen::Index n = jacobian_.rows();
+  row_stack_.resize(m + kRowBlockRows, m + 1);
+  row_triangle_.resize(m, m);
+  row_work_.resize(m + 1);
+  // Rows [0, held) of the stack hold the triangle of the blocks so far (none at first).
+  Eigen::Index held = 0;
+  for (Eigen::Index begin = 0; begin < n; begin += kRowBlockRows) {
+    const Eigen::Index rows = std::min(kRowBlockRows, n - begin);
+    row_stack_.block(held, 0, rows, m) = jacobian_.block(begin, 0, rows, m);
+    row_stack_.block(held, m, rows, 1) = f.segment(begin, rows);
+    const Eigen::Index total = held + rows;
+    // Householder QR of the stacked columns, in place; the last column only takes the
+    // reflectors (it becomes Q^T f).
+    for (Eigen::Index k = 0; k < m && k < total; ++k) {
+      auto column = row_stack_.col(k).segment(k, total - k);
+      double tau = 0, beta = 0;
+      column.makeHouseholderInPlace(tau, beta);
+      row_stack_.block(k, k + 1, total - k, m - k)
+          .applyHouseholderOnTheLeft(column.tail(total - k - 1), tau, row_work_.data());
+      row_stack_(k, k) = beta;
+      column.tail(total - k - 1).setZero();  // the triangle carries zeros below its diagonal
+    }
+    held = std::min(m, total);
+  }
+  row_triangle_.setZero();
+  row_triangle_.topRows(held) = row_stack_.block(0, 0, held, m).triangularView<Eigen::Upper>();
 }
 
 void LmState::ApplyReflectors(Eigen::VectorXd* v) {

@@ -6,7 +6,12 @@
 // buffer and takes the gradient J^T f and the column norms column by column. The working
 // columns are then factored in place by Eigen's column-pivoted Householder QR (no copy of
 // J), and the subproblem sees only R, the pivot and Q^T f, so a rejected trial step costs
-// O(m^2).
+// O(m^2). For a tall Jacobian (kRowBlockMinRows rows or more, no geodesic acceleration)
+// the working columns are reduced instead block by block of kRowBlockRows rows: each block
+// stacked under the triangle [R | Q^T f] of the rows before it and triangularised by
+// Householder reflections there, in cache, one pass over J in all; the column pivoting is
+// then applied to the m x m triangle (same pivots as pivoting J in exact arithmetic, since
+// R has J's column norms). Q itself is not kept on that path.
 //
 // Trial points are evaluated with the Jacobian while steps are being accepted: an accepted
 // trial then brings its Jacobian along and the next iteration does not call the model
@@ -47,6 +52,11 @@ class LmState {
   bool SelectWorkingSet();
   // R, pivot and Q^T f of the working columns.
   void Factorize();
+  // Keeps the full Q (the plain pivoted QR of J) for every factorisation: geodesic
+  // acceleration applies Q^T to another residual.
+  void KeepFullQ() { allow_row_blocks_ = false; }
+  // R, pivot and Q^T f of the last Factorize (the subproblem's input).
+  const DampedSystem& Factor() const { return system_; }
   void InitialiseScaling();
   void UpdateScaling();
   double ScaledParameterNorm() const;
@@ -91,6 +101,9 @@ class LmState {
   void AddGeodesicAcceleration(double lambda, const LevenbergMarquardtOptions& options,
                                Eigen::VectorXd* step);
   void FactorizeQr();
+  // The row-block reduction of the packed working columns and f into the m x m triangle
+  // and its Q^T f (top m entries of the last column of row_stack_).
+  void ReduceRowBlocks();
 
   const Problem& problem_;
   bool has_weights_ = false;
@@ -123,6 +136,12 @@ class LmState {
   Eigen::VectorXd geodesic_scaled_;  // m, sqrt(lambda) D
   Eigen::VectorXd acceleration_;     // m
   double reflector_work_ = 0;        // Eigen's workspace for one reflector on one column
+  bool allow_row_blocks_ = true;
+  // Row-block path: the triangle [R | Q^T f] stacked over one block of [J | f] rows,
+  // (m + kRowBlockRows) x (m + 1); the triangle alone, factored with pivoting; workspace.
+  Eigen::MatrixXd row_stack_;
+  Eigen::MatrixXd row_triangle_;
+  Eigen::VectorXd row_work_;
   double trial_fnorm_ = 0;
 };
 
