@@ -152,11 +152,7 @@ void LmState::FactorizeQr() {
     system_.r = qr_->matrixQR().triangularView<Eigen::Upper>();
     system_.pivot = qr_->colsPermutation().indices();
     system_.qtf = row_stack_.col(m).head(m);
-    const auto& factored = qr_->matrixQR();
-    for (int k = 0; k < m; ++k) {
-      system_.qtf.tail(m - k).applyHouseholderOnTheLeft(factored.col(k).tail(m - k - 1),
-                                                        qr_->hCoeffs()[k], &reflector_work_);
-    }
+    ApplyReflectors(&system_.qtf);
     return;
   }
   Eigen::Ref<Eigen::MatrixXd> block = jacobian_.leftCols(m);
@@ -190,7 +186,8 @@ void LmState::ReduceRowBlocks() {
       row_stack_.block(k, k + 1, total - k, m - k)
           .applyHouseholderOnTheLeft(column.tail(total - k - 1), tau, row_work_.data());
       row_stack_(k, k) = beta;
-      column.tail(total - k - 1).setZero();  // the triangle carries zeros below its diagonal
+      // The triangle carries zeros below its diagonal; the block's rows are overwritten.
+      column.segment(1, std::min(m, total) - k - 1).setZero();
     }
     held = std::min(m, total);
   }

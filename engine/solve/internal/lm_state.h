@@ -91,7 +91,8 @@ class LmState {
   void PredictFromFactor(const Eigen::VectorXd& step, TrialStep* trial);
   // R P^T s into `out` (size m).
   void MultiplyByFactor(const Eigen::VectorXd& step, Eigen::VectorXd* out) const;
-  // v <- Q^T v with the reflectors of the last factorisation.
+  // v <- Q^T v with the reflectors of the last factorisation; v has as many rows as the
+  // factored matrix (n, or m for the triangle of the row-block path).
   void ApplyReflectors(Eigen::VectorXd* v);
   // The first m entries of Q^T (a - b), without a temporary.
   void ApplyQTransposeToDifference(const Eigen::VectorXd& a, const Eigen::VectorXd& b,
